@@ -1,0 +1,183 @@
+"""The exact total of independent items by numerical convolution on a common grid.
+
+Each item's probability goes onto the grid points k * h by hat functions (each point takes
+E[max(0, 1 - |X - kh| / h)]), computed from the integrated cdf, so every item keeps its
+exact mean and its point masses (a risk event's zero, a discrete value) stay at their place
+instead of being smeared over a bin. Fixed items are a pure shift, added exactly at the end.
+The items' arrays are then convolved pairwise in a balanced tree with FFTs, trimming
+negligible tails after each step, so the cost grows with the total's spread rather than
+with the sum of the items' ranges.
+
+The step is a fraction of the total's standard deviation; the same total computed at twice
+the step gives the error estimate reported with every exact result.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+
+import numpy as np
+from scipy import signal
+
+from engine.distributions import Distribution, Fixed
+from engine.progress import Cancelled, Progress
+from engine.totals import Cumulants, GridTotal, PointTotal, Total
+
+# Grid steps per standard deviation of the total. At this resolution the percentile error
+# from the grid is ~1e-5 sd or less in every test case; the halved grid confirms it per run.
+RESOLUTION = 2000
+# Tail probability folded onto an unbounded item's grid ends, per side.
+ITEM_TAIL = 1e-10
+# Mass below which a tail of a partial convolution is folded into its neighbour.
+TRIM = 1e-15
+# Largest grid one item may take; beyond it the item's tails are folded in harder.
+MAX_ITEM_POINTS = 1 << 22
+
+Lattice = tuple[int, np.ndarray]  # (index of the first grid point, masses)
+
+
+def cumulants_of(dists: Sequence[Distribution]) -> Cumulants:
+    """Exact cumulants of the sum of independent items."""
+    return Cumulants(
+        mean=math.fsum(d.mean for d in dists),
+        variance=math.fsum(d.variance for d in dists),
+        kappa3=math.fsum(d.mu3 for d in dists),
+        kappa4=math.fsum(d.kappa4 for d in dists),
+    )
+
+
+def exact_total(
+    dists: Sequence[Distribution],
+    *,
+    resolution: int = RESOLUTION,
+    progress: Progress | None = None,
+    check_error: bool = True,
+) -> Total:
+    """Distribution of the sum of independent items; see the module docstring."""
+    progress = progress or Progress()
+    cumulants = cumulants_of(dists)
+    shift = math.fsum(d.value for d in dists if isinstance(d, Fixed))
+    uncertain = [d for d in dists if not isinstance(d, Fixed) and d.variance > 0]
+    shift += math.fsum(d.mean for d in dists if not isinstance(d, Fixed) and d.variance <= 0)
+    if not uncertain:
+        return PointTotal(shift)
+
+    step = cumulants.sd / resolution
+    span = 1.5 if check_error else 1.0
+    fine = _convolve_all(uncertain, step, lambda f: progress.report(f / span))
+    total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=fine[2])
+    if not check_error:
+        return total
+    coarse = _convolve_all(uncertain, 2 * step, lambda f: progress.report((1 + f / 2) / span))
+    coarse_total = GridTotal(shift + coarse[0] * 2 * step, 2 * step, coarse[1], cumulants)
+    q = np.arange(1, 100) / 100
+    bound = float(np.max(np.abs(total.ppf(q) - coarse_total.ppf(q))))
+    return GridTotal(
+        total.origin, step, total.masses, cumulants, error_bound=bound, truncated_mass=fine[2]
+    )
+
+
+def _convolve_all(
+    dists: Sequence[Distribution], step: float, report: Callable[[float], None]
+) -> tuple[int, np.ndarray, float]:
+    lattices: list[Lattice] = []
+    folded = 0.0
+    for i, d in enumerate(dists):
+        start, masses, tail = item_lattice(d, step)
+        lattices.append((start, masses))
+        folded += tail
+        if i % 64 == 0:
+            report(0.3 * i / len(dists))
+    merges_done, merges_total = 0, max(len(lattices) - 1, 1)
+    while len(lattices) > 1:
+        merged: list[Lattice] = []
+        for j in range(0, len(lattices) - 1, 2):
+            merged.append(_merge(lattices[j], lattices[j + 1]))
+            merges_done += 1
+            if merges_done % 32 == 0:
+                report(0.3 + 0.7 * merges_done / merges_total)
+        if len(lattices) % 2:
+            merged.append(lattices[-1])
+        lattices = merged
+    report(1.0)
+    start, masses = lattices[0]
+    return start, masses, folded
+
+
+def _merge(a: Lattice, b: Lattice) -> Lattice:
+    masses = signal.convolve(a[1], b[1], method="auto")
+    np.maximum(masses, 0.0, out=masses)
+    return _trim(a[0] + b[0], masses)
+
+
+def _trim(start: int, masses: np.ndarray) -> Lattice:
+    """Fold tails holding less than TRIM of the mass into the first and last kept points."""
+    cum = np.cumsum(masses)
+    total = cum[-1]
+    lo = int(np.searchsorted(cum, TRIM * total, side="right"))
+    hi = int(np.searchsorted(cum, (1 - TRIM) * total, side="left"))
+    lo, hi = min(lo, len(masses) - 1), min(max(hi, lo), len(masses) - 1)
+    if lo == 0 and hi == len(masses) - 1:
+        return start, masses
+    kept = masses[lo : hi + 1].copy()
+    kept[0] += cum[lo] - masses[lo] if lo > 0 else 0.0
+    kept[-1] += total - cum[hi]
+    return start + lo, kept
+
+
+def item_lattice(d: Distribution, step: float) -> tuple[int, np.ndarray, float]:
+    """One item's masses on the grid k * step: (first k, masses, tail mass folded in)."""
+    atoms, continuous = d.parts()
+    pieces: list[Lattice] = []
+    folded = 0.0
+    for weight, part in continuous:
+        start, masses, tail = _continuous_lattice(part, step)
+        pieces.append((start, weight * masses))
+        folded += weight * tail
+    for value, mass in atoms:
+        pos = value / step
+        k = math.floor(pos)
+        frac = pos - k
+        pieces.append((k, np.array([mass * (1 - frac), mass * frac])))
+    start = min(p[0] for p in pieces)
+    stop = max(p[0] + len(p[1]) for p in pieces)
+    out = np.zeros(stop - start)
+    for k, masses in pieces:
+        out[k - start : k - start + len(masses)] += masses
+    return start, out, folded
+
+
+def _continuous_lattice(part, step: float) -> tuple[int, np.ndarray, float]:
+    lo, hi = part.bounds()
+    tail = 0.0
+    if not _bounded(part):
+        lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
+        tail = 2 * ITEM_TAIL
+        if (hi - lo) / step > MAX_ITEM_POINTS:
+            # Heavy tail: keep the grid affordable by folding more of the far tail.
+            hi = lo + MAX_ITEM_POINTS * step
+            tail = ITEM_TAIL + 1 - float(part.cdf(hi))
+    k0 = math.floor(lo / step)
+    k1 = math.ceil(hi / step)
+    grid = np.arange(k0, k1 + 2) * step
+    points = grid[:-1]
+    # Average cdf and survival over each cell [k h, (k+1) h], each from the side where it
+    # is computed without cancellation; a point's hat mass is a difference of neighbours.
+    mean_cdf = np.diff(part.integrated_cdf(grid)) / step
+    mean_surv = -np.diff(part.integrated_survival(grid)) / step
+    from_below = np.diff(np.concatenate([[0.0], mean_cdf]))
+    from_above = np.concatenate([[1.0], mean_surv[:-1]]) - np.concatenate([mean_surv[:-1], [0.0]])
+    masses = np.where(points < part.mean, from_below, from_above)
+    np.maximum(masses, 0.0, out=masses)
+    masses /= masses.sum()
+    return k0, masses, tail
+
+
+def _bounded(part) -> bool:
+    from engine.distributions import Beta, Triangular, Uniform
+
+    return isinstance(part, Uniform | Triangular | Beta)
+
+
+__all__ = ["Cancelled", "cumulants_of", "exact_total", "item_lattice"]
