@@ -217,11 +217,22 @@ def _check_settings(estimate, method, levels, trials, sampling, tolerance) -> No
     if sampling not in SAMPLINGS:
         bad.append(Problem(f"sampling {sampling!r} is unknown.", "use lhs or random."))
     if not levels or any(not (0 < float(lv) < 100) for lv in levels):
-        bad.append(Problem(f"levels {list(levels)} must lie strictly between 0 and 100.", "use e.g. 50, 80, 90."))
+        bad.append(
+            Problem(
+                f"levels {list(levels)} must lie strictly between 0 and 100.",
+                "use e.g. 50, 80, 90.",
+            )
+        )
     if not (isinstance(trials, int | np.integer) and trials >= 1000):
-        bad.append(Problem(f"trials {trials!r} is too few.", "use at least 1000 (100000 is usual)."))
+        bad.append(
+            Problem(f"trials {trials!r} is too few.", "use at least 1000 (100000 is usual).")
+        )
     if not (0 < tolerance < 1):
-        bad.append(Problem(f"tolerance {tolerance!r} must be a fraction between 0 and 1.", "use 0.01 for 1%."))
+        bad.append(
+            Problem(
+                f"tolerance {tolerance!r} must be a fraction between 0 and 1.", "use 0.01 for 1%."
+            )
+        )
     if bad:
         raise InputError(bad)
 

@@ -236,14 +236,12 @@ class Triangular(Continuous):
         y = np.clip(y, 0.0, 1.0)
         out = []
         for k in range(4):
-            if m > 0:
-                left = 2 * np.minimum(y, m) ** (k + 2) / ((k + 2) * m)
-            else:
-                left = np.zeros_like(y)
+            left = 2 * np.minimum(y, m) ** (k + 2) / ((k + 2) * m) if m > 0 else np.zeros_like(y)
             if m < 1:
                 t = np.maximum(y, m)
                 right = (2 / (1 - m)) * (
-                    (t ** (k + 1) - m ** (k + 1)) / (k + 1) - (t ** (k + 2) - m ** (k + 2)) / (k + 2)
+                    (t ** (k + 1) - m ** (k + 1)) / (k + 1)
+                    - (t ** (k + 2) - m ** (k + 2)) / (k + 2)
                 )
             else:
                 right = np.zeros_like(y)
@@ -305,8 +303,10 @@ class Beta(Continuous):
     @property
     def mu4(self) -> float:
         a, b = self.alpha, self.beta
-        ex = 6 * ((a - b) ** 2 * (a + b + 1) - a * b * (a + b + 2)) / (
-            a * b * (a + b + 2) * (a + b + 3)
+        ex = (
+            6
+            * ((a - b) ** 2 * (a + b + 1) - a * b * (a + b + 2))
+            / (a * b * (a + b + 2) * (a + b + 3))
         )
         return (ex + 3) * self.variance**2
 
@@ -556,7 +556,7 @@ class Occurrence(Distribution):
 
     def _invert(self, q, inverse) -> np.ndarray:
         q = np.asarray(q, dtype=float)
-        low_part, at_zero, high_part = self._split(q)
+        low_part, _at_zero, high_part = self._split(q)
         out = np.zeros(q.shape)
         if low_part.any():
             out[low_part] = inverse(q[low_part] / self.p)

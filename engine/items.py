@@ -48,7 +48,11 @@ class Problem:
         if self.item:
             where.append(f"item {self.item!r}")
         place = ", ".join(where)
-        return f"{place}: {self.message} Fix: {self.fix}" if place else f"{self.message} Fix: {self.fix}"
+        return (
+            f"{place}: {self.message} Fix: {self.fix}"
+            if place
+            else f"{self.message} Fix: {self.fix}"
+        )
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -103,6 +107,34 @@ class LineItem:
         return replace(self, **changes)
 
 
+@dataclass(frozen=True)
+class CorrelationPair:
+    """A rank (Spearman) correlation the analyst states between two items, by name."""
+
+    item_a: str
+    item_b: str
+    coefficient: float
+    row: int | None = None
+
+
+@dataclass
+class CorrelationSpec:
+    """How the analyst states dependence: named pairs, a coefficient shared by all items of
+    a group, and a default for every other pair (0 unless set). All are rank correlations."""
+
+    pairs: list[CorrelationPair] = field(default_factory=list)
+    groups: dict[str, float] = field(default_factory=dict)
+    default: float = 0.0
+
+    @property
+    def is_independent(self) -> bool:
+        return (
+            self.default == 0
+            and all(p.coefficient == 0 for p in self.pairs)
+            and all(c == 0 for c in self.groups.values())
+        )
+
+
 @dataclass
 class Estimate:
     """The estimate: its line items (drafts included) and what is known about where it came from."""
@@ -113,6 +145,7 @@ class Estimate:
     source: str = ""
     read_problems: list[Problem] = field(default_factory=list)
     summary: dict[str, Any] = field(default_factory=dict)
+    correlation: CorrelationSpec = field(default_factory=CorrelationSpec)
 
     @property
     def problems(self) -> list[Problem]:

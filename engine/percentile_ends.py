@@ -27,9 +27,11 @@ def solve_bounds(
     """Return the triangular or PERT distribution with the stated percentiles and mode."""
     make: Callable[[float, float], Continuous]
     if family == "triangular":
+
         def make(a: float, b: float) -> Continuous:
             return Triangular(a, mode, b)
     else:
+
         def make(a: float, b: float) -> Continuous:
             return pert(a, mode, b, shape)
 

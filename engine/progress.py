@@ -35,4 +35,6 @@ class Progress:
 
     def part(self, start: float, span: float) -> Progress:
         """A progress for a sub-task covering [start, start + span] of this one."""
-        return Progress(self._progress, self._cancel, self._start + self._span * start, self._span * span)
+        return Progress(
+            self._progress, self._cancel, self._start + self._span * start, self._span * span
+        )

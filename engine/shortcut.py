@@ -43,10 +43,7 @@ def cornish_fisher_domain(skewness: float, excess_kurtosis: float) -> CornishFis
     a = g2 / 8 - g1 * g1 / 6
     b = g1 / 3
     c = 1 - g2 / 8 + 5 * g1 * g1 / 36
-    if abs(a) < 1e-15:
-        monotone = abs(b) < 1e-15 and c > 0
-    else:
-        monotone = a > 0 and b * b - 4 * a * c <= 0
+    monotone = abs(b) < 1e-15 and c > 0 if abs(a) < 1e-15 else a > 0 and b * b - 4 * a * c <= 0
     return CornishFisherDomain(monotone, a, b, c)
 
 
@@ -54,12 +51,7 @@ def cornish_fisher_percentile(cumulants: Cumulants, q: np.ndarray) -> np.ndarray
     """Cornish & Fisher (1937) to the 4th cumulant (Abramowitz & Stegun 26.2.49)."""
     z = special.ndtri(q)
     g1, g2 = cumulants.skewness, cumulants.excess_kurtosis
-    w = (
-        z
-        + (z * z - 1) * g1 / 6
-        + (z**3 - 3 * z) * g2 / 24
-        - (2 * z**3 - 5 * z) * g1 * g1 / 36
-    )
+    w = z + (z * z - 1) * g1 / 6 + (z**3 - 3 * z) * g2 / 24 - (2 * z**3 - 5 * z) * g1 * g1 / 36
     return cumulants.mean + cumulants.sd * w
 
 

@@ -103,7 +103,11 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
     pct = item.low_pct is not None or item.high_pct is not None
     if pct and (item.low_pct is None or item.high_pct is None):
         column = "High %" if item.high_pct is None else "Low %"
-        bad(column, "only one end is stated as a percentile.", "give both Low % and High %, or neither.")
+        bad(
+            column,
+            "only one end is stated as a percentile.",
+            "give both Low % and High %, or neither.",
+        )
         return None
     if pct and not (0 < item.low_pct < item.high_pct < 100):
         bad(
@@ -120,13 +124,25 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
         )
         return None
     if low is None or high is None:
-        bad("Low" if low is None else "High", "the range needs both Low and High.", "enter both ends.")
+        bad(
+            "Low" if low is None else "High",
+            "the range needs both Low and High.",
+            "enter both ends.",
+        )
         return None
     if not low < high:
-        bad("High", f"High ({high:g}) must be above Low ({low:g}).", "swap them or widen the range; use 'fixed' for a single value.")
+        bad(
+            "High",
+            f"High ({high:g}) must be above Low ({low:g}).",
+            "swap them or widen the range; use 'fixed' for a single value.",
+        )
         return None
     if ml is not None and family in ("triangular", "pert") and not (low <= ml <= high):
-        bad("Most likely", f"most likely {ml:g} is outside Low {low:g} to High {high:g}.", "put it between Low and High.")
+        bad(
+            "Most likely",
+            f"most likely {ml:g} is outside Low {low:g} to High {high:g}.",
+            "put it between Low and High.",
+        )
         return None
 
     p_lo = item.low_pct / 100 if pct else None
@@ -142,7 +158,11 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
         return Normal(low - z_lo * sigma, sigma)
     if family == "lognormal":
         if low <= 0:
-            bad("Low", f"a lognormal item needs positive ends; Low is {low:g}.", "use positive values, or a normal or triangular item.")
+            bad(
+                "Low",
+                f"a lognormal item needs positive ends; Low is {low:g}.",
+                "use positive values, or a normal or triangular item.",
+            )
             return None
         z_lo, z_hi = special.ndtri(p_lo), special.ndtri(p_hi)
         sigma = (math.log(high) - math.log(low)) / (z_hi - z_lo)
@@ -150,7 +170,11 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
 
     # triangular and PERT
     if ml is None:
-        bad("Most likely", f"a {family} item needs a most likely value.", "enter it between Low and High.")
+        bad(
+            "Most likely",
+            f"a {family} item needs a most likely value.",
+            "enter it between Low and High.",
+        )
         return None
     if family == "pert" and not (item.shape > 0 and math.isfinite(item.shape)):
         bad("Shape", f"PERT shape {item.shape!r} must be positive.", "use 4, the usual value.")
@@ -159,7 +183,11 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
         try:
             return solve_bounds(family, low, ml, high, p_lo, p_hi, item.shape)
         except NoBoundsFound as why:
-            bad("Low %", f"{why}.", "check the percentiles and the most likely value, or state absolute bounds.")
+            bad(
+                "Low %",
+                f"{why}.",
+                "check the percentiles and the most likely value, or state absolute bounds.",
+            )
             return None
     if family == "triangular":
         return Triangular(low, ml, high)
@@ -176,8 +204,14 @@ def _discrete(item: LineItem, bad) -> Distribution | None:
         return None
     values = [v for v, _ in item.values]
     weights = [w for _, w in item.values]
-    if any(not math.isfinite(v) for v in values) or any(not (w > 0 and math.isfinite(w)) for w in weights):
-        bad("Most likely", "every value needs a finite amount and a chance above 0.", "check each 'value @ chance' pair.")
+    if any(not math.isfinite(v) for v in values) or any(
+        not (w > 0 and math.isfinite(w)) for w in weights
+    ):
+        bad(
+            "Most likely",
+            "every value needs a finite amount and a chance above 0.",
+            "check each 'value @ chance' pair.",
+        )
         return None
     total = sum(weights)
     if abs(total - 1) > 1e-6:
