@@ -8,8 +8,18 @@ from pathlib import Path
 from typing import Any
 
 from engine.analysis import DEFAULT_LEVELS, DEFAULT_TOLERANCE, Analysis, LevelRow, analyze
-from engine.items import COLUMNS, FAMILIES, Estimate, InputError, LineItem, Problem
+from engine.items import (
+    COLUMNS,
+    FAMILIES,
+    CorrelationPair,
+    CorrelationSpec,
+    Estimate,
+    InputError,
+    LineItem,
+    Problem,
+)
 from engine.progress import Cancelled
+from engine.settings import Settings
 from engine.validation import build_distribution
 
 
@@ -30,11 +40,14 @@ __all__ = [
     "FAMILIES",
     "Analysis",
     "Cancelled",
+    "CorrelationPair",
+    "CorrelationSpec",
     "Estimate",
     "InputError",
     "LevelRow",
     "LineItem",
     "Problem",
+    "Settings",
     "analyze",
     "build_distribution",
     "read_estimate",

@@ -125,6 +125,9 @@ class CorrelationSpec:
     pairs: list[CorrelationPair] = field(default_factory=list)
     groups: dict[str, float] = field(default_factory=dict)
     default: float = 0.0
+    # A stated matrix that is not a valid correlation matrix is repaired (nearest valid one)
+    # only once the user has seen the repair and accepted it.
+    accept_repair: bool = False
 
     @property
     def is_independent(self) -> bool:
