@@ -13,6 +13,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+ATOM_RATIO = 50.0  # a cell this many times heavier than both neighbours holds a point mass
+
 
 @dataclass(frozen=True)
 class Cumulants:
@@ -107,10 +109,18 @@ class GridTotal(Total):
     kind: str = "exact"
     _edges_cum: np.ndarray = field(init=False, repr=False, compare=False)
 
+    _atom_cell: np.ndarray = field(init=False, repr=False, compare=False)
+
     def __post_init__(self) -> None:
         cum = np.cumsum(self.masses)
         cum /= cum[-1]
         object.__setattr__(self, "_edges_cum", np.concatenate([[0.0], cum]))
+        # A cell holding far more than its neighbours is a point mass (a risk event's zero,
+        # a fixed total): its percentiles are its value, not a spread across the cell.
+        padded = np.concatenate([[0.0], self.masses, [0.0]])
+        neighbours = np.maximum(padded[:-2], padded[2:])
+        atom = (self.masses > ATOM_RATIO * neighbours) & (self.masses > 1e-9)
+        object.__setattr__(self, "_atom_cell", atom)
 
     @property
     def edges(self) -> np.ndarray:
@@ -122,7 +132,17 @@ class GridTotal(Total):
         return self.origin + np.arange(len(self.masses)) * self.step
 
     def cdf(self, x):
-        return np.interp(np.asarray(x, dtype=float), self.edges, self._edges_cum)
+        x = np.asarray(x, dtype=float)
+        out = np.interp(x, self.edges, self._edges_cum)
+        cell = np.clip(
+            np.rint((x - self.origin) / self.step).astype(np.int64), 0, len(self.masses) - 1
+        )
+        atom = self._atom_cell[cell]
+        if np.any(atom):
+            at_or_above = x >= self.origin + cell * self.step
+            jumped = np.where(at_or_above, self._edges_cum[cell + 1], self._edges_cum[cell])
+            out = np.where(atom, jumped, out)
+        return out
 
     def ppf(self, q):
         q = np.asarray(q, dtype=float)
@@ -131,7 +151,8 @@ class GridTotal(Total):
         lo, hi = cum[idx - 1], cum[idx]
         with np.errstate(invalid="ignore", divide="ignore"):
             frac = np.where(hi > lo, (q - lo) / (hi - lo), 0.0)
-        return self.origin + (idx - 1 - 0.5 + np.clip(frac, 0.0, 1.0)) * self.step
+        frac = np.where(self._atom_cell[idx - 1], 0.5, np.clip(frac, 0.0, 1.0))
+        return self.origin + (idx - 1 - 0.5 + frac) * self.step
 
     def density(self) -> tuple[np.ndarray, np.ndarray]:
         """Grid values and the density there (mass / step), for charts."""
