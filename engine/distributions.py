@@ -113,15 +113,18 @@ class Continuous(Distribution):
         """G(x) = E[(x - X)^+] = integral of the cdf up to x; its second difference on a
         grid gives each grid point the mass of a hat function around it (mean-preserving)."""
         y = (np.asarray(x, dtype=float) - self.loc) / self.scale
+        return self.scale * self._integrated_cdf_std(y)
+
+    def _integrated_cdf_std(self, y: np.ndarray) -> np.ndarray:
+        """E[(y - Y)^+] of the standardised Y; families with a cheaper closed form override it."""
         m0, m1, _, _ = self._partial_moments(y)
-        return self.scale * np.maximum(y * m0 - m1, 0.0)
+        return np.maximum(y * m0 - m1, 0.0)
 
     def _stop_loss_std(self, y: np.ndarray) -> np.ndarray:
         """E[(Y - y)^+] of the standardised Y; families override it with a form that stays
         accurate in the upper tail, where G(x) - (x - mean) would cancel."""
-        m0, m1, _, _ = self._partial_moments(y)
         mean_std = (self.mean - self.loc) / self.scale
-        return np.maximum(y * m0 - m1 - (y - mean_std), 0.0)
+        return np.maximum(self._integrated_cdf_std(y) - (y - mean_std), 0.0)
 
     def integrated_survival(self, x: ArrayLike) -> np.ndarray:
         """S(x) = E[(X - x)^+]; G(x) - S(x) = x - mean, so both have the same second
@@ -214,8 +217,10 @@ class Triangular(Continuous):
 
     @property
     def _q(self) -> float:
+        # Q = a^2+b^2+c^2-ab-ac-bc, written in differences so that a range far from zero
+        # keeps its digits
         a, c, b = self.low, self.mode, self.high
-        return a * a + b * b + c * c - a * b - a * c - b * c
+        return ((b - a) ** 2 + (c - a) ** 2 + (b - c) ** 2) / 2
 
     @property
     def variance(self) -> float:
@@ -247,6 +252,19 @@ class Triangular(Continuous):
                 right = np.zeros_like(y)
             out.append(left + right)
         return tuple(out)
+
+    def _integrated_cdf_std(self, y):
+        # Integral of the piecewise-quadratic cdf: a cubic on each side of the mode, cheaper
+        # than four partial moments on every grid point of the convolution.
+        m = self._m
+        t = np.clip(y, 0.0, 1.0)
+        left = np.minimum(t, m) ** 3 / (3 * m) if m > 0 else np.zeros_like(t)
+        if m < 1:
+            u = np.maximum(t, m)
+            right = (u - m) - ((1 - m) ** 3 - (1 - u) ** 3) / (3 * (1 - m))
+        else:
+            right = np.zeros_like(t)
+        return left + right + np.maximum(y - 1.0, 0.0)
 
     def _stop_loss_std(self, y):
         m = self._m
@@ -344,28 +362,44 @@ class Beta(Continuous):
         )
 
     @cached_property
-    def _ppf_table(self) -> np.ndarray:
-        return special.betaincinv(self.alpha, self.beta, np.linspace(0.0, 1.0, _TABLE + 1))
+    def _ppf_table(self) -> tuple[np.ndarray, np.ndarray]:
+        """ppf at the table's nodes, and its slope there (1 / density) in units of a cell."""
+        y = special.betaincinv(self.alpha, self.beta, np.linspace(0.0, 1.0, _TABLE + 1))
+        slope = np.zeros_like(y)
+        inner = y[1:-1]
+        log_density = (
+            special.xlogy(self.alpha - 1, inner)
+            + special.xlog1py(self.beta - 1, -inner)
+            - special.betaln(self.alpha, self.beta)
+        )
+        slope[1:-1] = np.exp(-log_density) / _TABLE
+        return y, slope  # the end slopes are never used: the edge cells are computed exactly
 
     def sample(self, u: np.ndarray) -> np.ndarray:
-        """Inverse transform by table lookup in the body and exact ppf in the outer cells,
-        because betaincinv is ~50x slower than the rest of a simulation step."""
+        """Inverse transform by cubic Hermite interpolation of a ppf table in the body and
+        the exact ppf in the outer cells, where the ppf bends too sharply to interpolate,
+        because betaincinv is ~50x slower than the rest of a simulation step. Within
+        ~1e-10 of the range of the exact ppf."""
         u = np.asarray(u, dtype=float)
         pos = u * _TABLE
         idx = np.minimum(pos.astype(np.int64), _TABLE - 1)
-        frac = pos - idx
-        table = self._ppf_table
-        y = table[idx] + frac * (table[idx + 1] - table[idx])
-        edge = (idx == 0) | (idx == _TABLE - 1)
+        t = pos - idx
+        y, slope = self._ppf_table
+        y0, y1 = y[idx], y[idx + 1]
+        t2 = t * t
+        h01 = t2 * (3 - 2 * t)  # Hermite basis: weight of y1; y0 takes 1 - h01
+        out = y0 + h01 * (y1 - y0) + t * (1 - t) * ((1 - t) * slope[idx] - t * slope[idx + 1])
+        edge = (idx < _EDGE_CELLS) | (idx >= _TABLE - _EDGE_CELLS)
         if edge.any():
-            y[edge] = special.betaincinv(self.alpha, self.beta, u[edge])
-        return self.low + self.scale * y
+            out[edge] = special.betaincinv(self.alpha, self.beta, u[edge])
+        return self.low + self.scale * out
 
     def bounds(self):
         return self.low, self.high
 
 
 _TABLE = 1 << 14
+_EDGE_CELLS = 32  # cells at each end sampled by the exact ppf
 
 
 def pert(low: float, mode: float, high: float, shape: float = 4.0) -> Beta:

@@ -1,0 +1,80 @@
+"""Large estimates: time and peak memory, beside a naive full-matrix simulation.
+
+Each case runs in a fresh subprocess so its peak resident memory (ru_maxrss) is its own.
+The reference is what a straightforward script does: draw the whole trials x items matrix
+with numpy and sum it. Run: .venv/bin/python bench/bench_scale.py [--quick]
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+CASE = r"""
+import json, resource, sys, time
+import numpy as np
+sys.path.insert(0, {root!r})
+from engine import Estimate, LineItem, analyze
+
+def items(n):
+    rng = np.random.default_rng(7)
+    out = []
+    for i in range(n):
+        low = float(rng.uniform(1e3, 1e5)); ml = low * float(rng.uniform(1.05, 1.5))
+        high = ml * float(rng.uniform(1.1, 2.5))
+        family = ("triangular", "pert", "uniform", "triangular")[i % 4]
+        p = 0.3 if i % 4 == 3 else 1.0
+        out.append(LineItem(f"item {{i}}", family, low, ml if family != "uniform" else None, high, probability=p))
+    return out
+
+kind, n, trials = {kind!r}, {n}, {trials}
+start = time.perf_counter()
+if kind == "naive":
+    rng = np.random.default_rng(7)
+    low = rng.uniform(1e3, 1e5, n); ml = low * rng.uniform(1.05, 1.5, n); high = ml * rng.uniform(1.1, 2.5, n)
+    total = rng.triangular(low, ml, high, size=(trials, n)).sum(axis=1)
+    p90 = float(np.quantile(total, 0.9))
+else:
+    est = Estimate(items(n))
+    a = analyze(est, method=kind, trials=trials, seed=1, levels=(50, 80, 90))
+    p90 = a.levels[-1].value
+seconds = time.perf_counter() - start
+peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+print(json.dumps({{"seconds": seconds, "peak_mb": peak_mb, "p90": p90}}))
+"""
+
+
+def run(kind: str, n: int, trials: int) -> dict:
+    code = CASE.format(root=str(ROOT), kind=kind, n=n, trials=trials)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def main() -> None:
+    quick = "--quick" in sys.argv
+    big = 2_000 if quick else 10_000
+    cases = [
+        (f"{big:,} items, exact", "exact", big, 100_000, None),
+        (f"{big:,} items x 100k trials, simulation", "simulation", big, 100_000, None),
+        ("200 items x 1M trials, simulation", "simulation", 200, 1_000_000, ("naive", 200, 1_000_000)),
+    ]
+    print(f"{'case':44} {'seconds':>9} {'peak MB':>9} | {'naive s':>8} {'naive MB':>9} {'mem ratio':>9}")
+    for label, kind, n, trials, ref in cases:
+        ours = run(kind, n, trials)
+        line = f"{label:44} {ours['seconds']:9.2f} {ours['peak_mb']:9.0f} |"
+        if ref:
+            naive = run(*ref)
+            ratio = naive["peak_mb"] / ours["peak_mb"]
+            line += f" {naive['seconds']:8.2f} {naive['peak_mb']:9.0f} {ratio:8.1f}x"
+        else:
+            line += f" {'-':>8} {'-':>9} {'-':>9}"
+        print(line, flush=True)
+    print("naive: numpy draws the whole trials x items matrix at once and sums it (triangular only).")
+
+
+if __name__ == "__main__":
+    main()
