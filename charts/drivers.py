@@ -1,0 +1,49 @@
+"""Which items make the total wide and which make it lean: variance share and skew share per
+item, largest first, so the analyst knows where better ranges would pay."""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib.axes import Axes
+
+from charts.style import FONT_SIZE, HISTOGRAM_FILL, SKEW, TOTAL, display_text, style_axes
+from engine import Analysis
+
+LABEL_CHARS = 38
+
+
+def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
+    drivers = [d for d in analysis.drivers if d.variance_share or d.skew_share][:top]
+    y = np.arange(len(drivers))[::-1]  # largest at the top
+    height = 0.38
+    ax.barh(
+        y + height / 2,
+        [100 * d.variance_share for d in drivers],
+        height=height,
+        color=TOTAL.color,
+        edgecolor=TOTAL.color,
+        label="Share of variance",
+        gid="variance",
+    )
+    ax.barh(
+        y - height / 2,
+        [100 * d.skew_share for d in drivers],
+        height=height,
+        color=HISTOGRAM_FILL,
+        edgecolor=SKEW.color,
+        hatch=SKEW.hatch,
+        lw=0.8,
+        label="Share of skew (3rd cumulant)",
+        gid="skew",
+    )
+    ax.set_yticks(y, [_short(d.name) for d in drivers], fontsize=FONT_SIZE)
+    ax.axvline(0, color="#4b5563", lw=0.8)
+    style_axes(ax, f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)")
+    ax.grid(False, axis="y")
+    ax.set_xlabel("Share (%)", fontsize=FONT_SIZE)
+    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+
+
+def _short(name: str) -> str:
+    name = display_text(name)
+    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"

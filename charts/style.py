@@ -1,0 +1,77 @@
+"""Rangefold's chart look: a colour-blind safe palette whose series also differ by line style,
+marker and hatching, so a chart printed in grey still reads."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from matplotlib.axes import Axes
+from matplotlib.axis import Axis
+from matplotlib.ticker import FuncFormatter
+
+from engine.verdict import compact
+
+
+@dataclass(frozen=True)
+class Series:
+    color: str
+    linestyle: str
+    marker: str
+    hatch: str = ""
+    linewidth: float = 1.8
+
+
+# Dark teal and burnt orange sit far apart for every common colour-vision type and in
+# luminance; the muted plum marks failures, slate marks reference lines.
+TOTAL = Series("#17607a", "-", "o", "", 2.0)
+NORMAL = Series("#c8631b", "--", "s", "", 1.6)
+FAIL = Series("#8c2d6b", "none", "X", "xx", 1.2)
+SKEW = Series("#c8631b", "-", "", "////", 1.0)
+REFERENCE = Series("#4b5563", ":", "", "", 1.0)
+BAND_FILL = "#e8dcc4"  # light sand: the tolerance band, also hatched
+HISTOGRAM_FILL = "#b7d3dd"
+TEXT = "#1f2933"
+FONT_SIZE = 8.5
+
+
+def style_axes(ax: Axes, title: str = "") -> None:
+    """Quiet frame: light grid behind the data, no top or right spine."""
+    ax.set_axisbelow(True)
+    ax.grid(True, color="#d9dde3", linewidth=0.6)
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
+    ax.tick_params(labelsize=FONT_SIZE, colors=TEXT)
+    if title:
+        ax.set_title(title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc="left")
+
+
+def money_axis(axis: Axis) -> None:
+    """Ticks said the way estimators say sums: 12.3 k, 4.1 M."""
+    axis.set_major_formatter(FuncFormatter(lambda x, _pos: compact(x)))
+
+
+def display_text(text: str) -> str:
+    """User text on one line for a chart or a printed page: tabs and line breaks (which
+    the fonts have no glyph for) become single spaces."""
+    return " ".join(text.split())
+
+
+def axis_label(name: str, unit: str) -> str:
+    return f"{name} ({unit})" if unit else name
+
+
+def level_label(ax: Axes, x: float, text: str) -> None:
+    """A label standing along a vertical marker line, so close levels do not collide."""
+    ax.annotate(
+        text,
+        (x, 1.0),
+        xycoords=("data", "axes fraction"),
+        xytext=(2, -3),
+        textcoords="offset points",
+        rotation=90,
+        ha="left",
+        va="top",
+        fontsize=FONT_SIZE,
+        color=TEXT,
+        bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.8},
+    )

@@ -1,0 +1,1 @@
+"""The `rangefold` command: reports and checks from the terminal, or the window."""

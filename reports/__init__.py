@@ -1,0 +1,52 @@
+"""The contingency report: `write_report` picks the format from the file's extension."""
+
+from __future__ import annotations
+
+import io
+from pathlib import Path
+
+from engine import Analysis, Estimate, Settings
+from reports.provenance import provenance
+
+FORMATS = (".xlsx", ".pdf", ".json")
+
+
+def write_report(
+    path: str | Path,
+    estimate: Estimate,
+    analysis: Analysis,
+    settings: Settings,
+    *,
+    source_path: str | Path | None = None,
+    paper: str = "a4",
+) -> Path:
+    """Write the report to `path` (.xlsx, .pdf or .json) and return it.
+
+    The report is made in memory and written atomically, so a failed export never leaves
+    half a report under the real name.
+    """
+    from fileio.atomic import write_atomic
+
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix not in FORMATS:
+        raise ValueError(
+            f"cannot write a report as {suffix or 'a file without extension'!r}: "
+            f"use {', '.join(FORMATS)}."
+        )
+    about = provenance(estimate, settings, source_path)
+    stream = io.BytesIO()
+    if suffix == ".xlsx":
+        from reports.xlsx import write_xlsx
+
+        write_xlsx(stream, estimate, analysis, about)
+    elif suffix == ".pdf":
+        from reports.pdf import write_pdf
+
+        write_pdf(stream, estimate, analysis, about, paper=paper)
+    else:
+        from reports.json_report import dumps
+
+        stream.write((dumps(analysis, about) + "\n").encode("utf-8"))
+    write_atomic(path, stream.getvalue(), backup=False)
+    return path

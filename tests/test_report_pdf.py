@@ -1,0 +1,75 @@
+"""The PDF report: A4 or Letter, summary, charts and item pages, vector text."""
+
+from __future__ import annotations
+
+import re
+
+import pytest
+from report_fixtures import correlated_normals, mixed_estimate, uniforms
+
+from engine import Settings, analyze
+from reports import write_report
+from reports.pdf import ITEMS_PER_PAGE
+
+# Page sizes in points: A4 210 x 297 mm (ISO 216), Letter 8.5 x 11 in; the report rounds
+# A4 to 8.27 x 11.69 in.
+A4 = (595.44, 841.68)
+LETTER = (612.0, 792.0)
+
+
+def pages_of(data: bytes) -> list[tuple[float, float]]:
+    """MediaBox of every page object (matplotlib writes page dictionaries uncompressed)."""
+    assert data.startswith(b"%PDF-")
+    count = len(re.findall(rb"/Type\s*/Page\b(?!s)", data))
+    boxes = re.findall(rb"/MediaBox\s*\[\s*0\s+0\s+([\d.]+)\s+([\d.]+)\s*\]", data)
+    assert len(boxes) == count
+    return [(float(w), float(h)) for w, h in boxes]
+
+
+def test_a4_summary_charts_items(tmp_path):
+    estimate = mixed_estimate()
+    analysis = analyze(estimate, method="exact")
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(unit="EUR"))
+    boxes = pages_of(path.read_bytes())
+    assert len(boxes) == 3
+    assert all(b == pytest.approx(A4) for b in boxes)
+
+
+def test_letter_and_items_over_several_pages(tmp_path):
+    estimate = uniforms(ITEMS_PER_PAGE + 1)
+    analysis = analyze(estimate, method="exact")
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(), paper="letter")
+    boxes = pages_of(path.read_bytes())
+    assert len(boxes) == 4  # summary, charts, two item pages
+    assert all(b == pytest.approx(LETTER) for b in boxes)
+
+
+def test_simulation_report_and_embedded_text(tmp_path):
+    estimate = uniforms(3)
+    analysis = analyze(estimate, method="simulation", trials=10_000, seed=3)
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(method="simulation"))
+    data = path.read_bytes()
+    assert len(pages_of(data)) == 3
+    assert b"/FontFile2" in data  # TrueType embedded (pdf.fonttype 42): text stays text
+
+
+def test_unknown_paper_is_refused(tmp_path):
+    estimate = uniforms(3)
+    analysis = analyze(estimate, method="exact")
+    with pytest.raises(ValueError, match="paper 'a3' is unknown"):
+        write_report(tmp_path / "r.pdf", estimate, analysis, Settings(), paper="a3")
+
+
+def test_correlated_items_add_a_correlation_page(tmp_path):
+    estimate = correlated_normals(0.5)
+    analysis = analyze(estimate, trials=10_000, seed=5)
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings())
+    assert len(pages_of(path.read_bytes())) == 4
+
+
+def test_a_long_summary_continues_on_a_second_page(tmp_path):
+    estimate = uniforms(3)
+    levels = tuple(float(lv) for lv in range(5, 100, 5))  # 19 levels: two tables of 19 rows
+    analysis = analyze(estimate, method="exact", levels=levels)
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(levels=levels))
+    assert len(pages_of(path.read_bytes())) == 4
