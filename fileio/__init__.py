@@ -1,0 +1,6 @@
+"""Rangefold's I/O layer: estimates in from CSV files, workbooks and project files; project
+files out, atomically. Qt-free; openpyxl is imported only when a workbook is read.
+
+`readers.read_estimate` and `readers.preview_table` are the entry points; `cells` and `rows`
+parse cell text the same way for the importer and the window.
+"""
