@@ -1,4 +1,10 @@
-"""`analyze`: the total of an estimate at each confidence level, beside the normal shortcut."""
+"""`analyze`: the total of an estimate at each confidence level, beside the normal shortcut.
+
+Independent items are convolved exactly by default. Correlated items (any non-zero stated
+coefficient, see engine.correlation) are simulated with Iman-Conover, and each level then
+also shows the normal shortcut with the covariances and the exact total the same items
+would have if they were independent.
+"""
 
 from __future__ import annotations
 
@@ -11,15 +17,19 @@ from typing import Any
 import numpy as np
 
 from engine.convolution import cumulants_of, exact_total
+from engine.correlation import SHEET, Dependence, Targets, achieved_against, build_matrix, targets
 from engine.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
 from engine.distributions import Distribution
-from engine.items import Estimate, InputError, LineItem
+from engine.iman_conover import ImanConoverScores
+from engine.items import Estimate, InputError, LineItem, Problem
 from engine.progress import Progress
+from engine.sample_statistics import CorrelatedSampleStatistics
 from engine.shortcut import (
     BERRY_ESSEEN_C0,
     berry_esseen_bound,
     cornish_fisher_domain,
     cornish_fisher_percentile,
+    correlated_normal_variance,
     normal_percentile,
     sum_of_item_percentiles,
 )
@@ -36,7 +46,13 @@ SAMPLINGS = ("lhs", "random")
 
 @dataclass(frozen=True)
 class LevelRow:
-    """One confidence level. gap = normal - value: negative when the shortcut understates."""
+    """One confidence level. gap = normal - value: negative when the shortcut understates.
+
+    `normal` is always the independence shortcut (sum of means and of variances). With
+    correlated items, `normal_dependent` adds the covariances to the variance and
+    `independent_value` is the exact total of the same items with every coefficient 0;
+    both are None for independent items.
+    """
 
     level: float
     value: float
@@ -49,6 +65,8 @@ class LevelRow:
     standard_error: float | None
     contingency: float
     contingency_pct: float | None
+    normal_dependent: float | None = None
+    independent_value: float | None = None
 
     @property
     def verdict(self) -> str:
@@ -73,6 +91,8 @@ class Diagnostics:
     berry_esseen_bound: float
     berry_esseen_constant: float
     cornish_fisher_monotone: bool
+    # The Berry-Esseen bound is a theorem about independent items only.
+    berry_esseen_applies: bool = True
 
 
 @dataclass
@@ -93,6 +113,10 @@ class Analysis:
     sampling: str | None
     compute_seconds: float
     item_names: list[str] = field(default_factory=list)
+    dependence: Dependence | None = None
+    # What the `normal` column is read from (the sum of the items' means and variances when
+    # it differs from the total's own moments, as with correlated items); None: the total's.
+    shortcut_cumulants: Cumulants | None = None
 
     @property
     def berry_esseen(self) -> float:
@@ -106,8 +130,14 @@ class Analysis:
         """The total and the normal shortcut at many percentiles, and the gap between them."""
         q = np.asarray(list(percentiles), dtype=float) / 100
         total = self.total.ppf(q)
-        normal = normal_percentile(self.total_cumulants, q)
-        return {"percentile": q * 100, "total": total, "normal": normal, "gap": normal - total}
+        shortcut = self.shortcut_cumulants or self.total_cumulants
+        normal = normal_percentile(shortcut, q)
+        curve = {"percentile": q * 100, "total": total, "normal": normal, "gap": normal - total}
+        if self.dependence is not None:
+            curve["normal_dependent"] = normal_percentile(
+                Cumulants(shortcut.mean, self.dependence.shortcut_variance, 0.0, 0.0), q
+            )
+        return curve
 
     @property
     def total_cumulants(self) -> Cumulants:
@@ -139,10 +169,11 @@ class Analysis:
             "trials": self.trials,
             "sampling": self.sampling,
             "compute_seconds": self.compute_seconds,
+            "dependence": None if self.dependence is None else self.dependence.to_dict(),
             "percentiles": {
-                "percentile": curve["percentile"].tolist(),
-                "total": curve["total"].tolist(),
-                "normal": curve["normal"].tolist(),
+                key: curve[key].tolist()
+                for key in ("percentile", "total", "normal", "normal_dependent")
+                if key in curve
             },
         }
 
@@ -168,24 +199,52 @@ def analyze(
     items = list(estimate.items)
     dists = [build_distribution(i) for i in items]
     tracker = Progress(progress, cancel)
-
-    if method == "simulation":
+    linked = correlated_pairs(estimate)
+    if linked:
+        _check_correlated_settings(method, trials, len(items), linked)
+        aims = targets(estimate)
+        chosen = "simulation"
+        why = (
+            "simulation was chosen in the settings"
+            if method == "simulation"
+            else f"{linked} pair(s) of items are correlated, so the total is simulated"
+            " (exact convolution needs independent items)"
+        ) + "; the correlations are induced by Iman-Conover"
+        if aims.repaired:
+            why += " on the nearest valid correlation matrix (repair accepted)"
+        if aims.pearson_repaired:
+            why += "; the normal-score correlations were repaired to the nearest valid matrix"
+    elif method == "simulation":
         chosen, why = "simulation", "simulation was chosen in the settings"
     else:
         chosen, why = "exact", "items are independent, so the total is computed exactly"
-    if chosen == "exact":
-        total: Total = exact_total(dists, progress=tracker)
-        seed_used = trials_used = sampling_used = None
-    else:
-        seed_used = new_seed() if seed is None else int(seed)
-        total = simulate(dists, trials=trials, seed=seed_used, sampling=sampling, progress=tracker)
-        trials_used, sampling_used = total.trials, sampling
 
     base, basis = base_estimate(items)
-    rows = level_rows(total, dists, levels, base, tolerance)
-    drivers = item_drivers(items, dists)
-    diagnostics = diagnose(items, dists, total, drivers)
-    reasons = reasons_for(diagnostics, drivers)
+    dependence = shortcut = None
+    seed_used = trials_used = sampling_used = None
+    if chosen == "exact":
+        total: Total = exact_total(dists, progress=tracker)
+        drivers = item_drivers(items, dists)
+    else:
+        seed_used = new_seed() if seed is None else int(seed)
+        sampling_used = sampling
+        if linked:
+            total, dependence, stats = simulate_correlated(
+                dists, aims, trials, seed_used, sampling, tracker
+            )
+            shortcut = cumulants_of(dists)
+            drivers = item_drivers(
+                items, dists, stats.variance_contributions, stats.rank_with_total
+            )
+        else:
+            total = simulate(
+                dists, trials=trials, seed=seed_used, sampling=sampling, progress=tracker
+            )
+            drivers = item_drivers(items, dists)
+        trials_used = total.trials
+    rows = level_rows(total, dists, levels, base, tolerance, shortcut, dependence)
+    diagnostics = diagnose(items, dists, total, drivers, independent=not linked)
+    reasons = reasons_for(diagnostics, drivers, dependence)
     return Analysis(
         levels=rows,
         total=total,
@@ -203,12 +262,83 @@ def analyze(
         sampling=sampling_used,
         compute_seconds=time.perf_counter() - started,
         item_names=[i.name for i in items],
+        dependence=dependence,
+        shortcut_cumulants=shortcut,
     )
 
 
-def _check_settings(estimate, method, levels, trials, sampling, tolerance) -> None:
-    from engine.items import Problem
+def correlated_pairs(estimate: Estimate) -> int:
+    """How many pairs of items have a non-zero stated coefficient."""
+    _, matrix = build_matrix(estimate)
+    return int(np.count_nonzero(np.triu(matrix, k=1)))
 
+
+def _check_correlated_settings(method: str, trials: int, items: int, linked: int) -> None:
+    bad = []
+    if method == "exact":
+        bad.append(
+            Problem(
+                f"exact convolution needs independent items, and {linked} pair(s) are correlated.",
+                "use auto or simulation, or set every correlation to 0.",
+                column="Coefficient",
+                sheet=SHEET,
+            )
+        )
+    # Two replicates of more than `items` trials each: Iman-Conover needs trials > items.
+    if trials < 4 * items:
+        bad.append(
+            Problem(
+                f"{trials} trials are too few to correlate {items} items.",
+                f"use at least {4 * items} trials (100000 is usual).",
+            )
+        )
+    if bad:
+        raise InputError(bad)
+
+
+def simulate_correlated(
+    dists: Sequence[Distribution],
+    aims: Targets,
+    trials: int,
+    seed: int,
+    sampling: str,
+    tracker: Progress,
+) -> tuple[Total, Dependence, CorrelatedSampleStatistics]:
+    """The correlated simulation, its sample statistics, and the same items independent."""
+    scores = ImanConoverScores(aims.pearson_used, sampling)
+    stats = CorrelatedSampleStatistics(scores, dists)
+    total = simulate(
+        dists,
+        trials=trials,
+        seed=seed,
+        sampling=sampling,
+        scores=scores,
+        observe=stats,
+        min_per_replicate=2 * len(dists),
+        progress=tracker.part(0.0, 0.9),
+    )
+    independent = exact_total(dists, progress=tracker.part(0.9, 0.1), check_error=False)
+    sds = np.array([d.sd for d in dists])
+    deviation, worst = achieved_against(aims, stats.achieved)
+    dependence = Dependence(
+        names=aims.names,
+        target=aims.target,
+        used=aims.used,
+        repaired=aims.repaired,
+        largest_change=aims.largest_change,
+        pearson_used=aims.pearson_used,
+        pearson_repaired=aims.pearson_repaired,
+        achieved=stats.achieved,
+        achieved_max_deviation=deviation,
+        worst_achieved=worst,
+        shortcut_variance=correlated_normal_variance(sds, aims.pearson_used),
+        sd_dependent=total.sd,
+        independent_total=independent,
+    )
+    return total, dependence, stats
+
+
+def _check_settings(estimate, method, levels, trials, sampling, tolerance) -> None:
     bad = []
     if not estimate.items:
         bad.append(Problem("the estimate has no line items.", "add at least one item."))
@@ -254,11 +384,18 @@ def level_rows(
     levels: Sequence[float],
     base: float,
     tolerance: float,
+    shortcut: Cumulants | None = None,
+    dependence: Dependence | None = None,
 ) -> list[LevelRow]:
+    """`shortcut`: the moments the normal column is read from, when not the total's own."""
     q = np.asarray([float(lv) for lv in levels]) / 100
     value = total.ppf(q)
     cumulants = cumulants_of(dists) if isinstance(total, GridTotal) else total.cumulants
-    normal = normal_percentile(cumulants, q)
+    normal = normal_percentile(shortcut or cumulants, q)
+    if dependence is not None:
+        mean = (shortcut or cumulants).mean
+        dependent = normal_percentile(Cumulants(mean, dependence.shortcut_variance, 0, 0), q)
+        independent = dependence.independent_total.ppf(q)
     cf = cornish_fisher_percentile(cumulants, q)
     naive = sum_of_item_percentiles(dists, q)
     se = total.standard_error(q)
@@ -279,6 +416,8 @@ def level_rows(
                 standard_error=None if se is None else float(se[i]),
                 contingency=float(value[i]) - base,
                 contingency_pct=100 * (float(value[i]) - base) / abs(base) if base else None,
+                normal_dependent=None if dependence is None else float(dependent[i]),
+                independent_value=None if dependence is None else float(independent[i]),
             )
         )
     return rows
@@ -289,6 +428,8 @@ def diagnose(
     dists: Sequence[Distribution],
     total: Total,
     drivers: Sequence[ItemDriver],
+    *,
+    independent: bool = True,
 ) -> Diagnostics:
     exact = cumulants_of(dists)
     events = [d for d, i in zip(dists, items, strict=True) if i.is_risk_event]
@@ -310,4 +451,5 @@ def diagnose(
         berry_esseen_bound=berry_esseen_bound(dists),
         berry_esseen_constant=BERRY_ESSEEN_C0,
         cornish_fisher_monotone=domain.monotone,
+        berry_esseen_applies=independent,
     )

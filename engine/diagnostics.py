@@ -39,7 +39,8 @@ def item_drivers(
     rank_with_total: Sequence[float] | None = None,
 ) -> list[ItemDriver]:
     """Drivers, largest variance share first. Without correlation an item's contribution is
-    its own variance; with it, the caller passes var_i + sum_j cov_ij."""
+    its own variance; with it, the caller passes var_i + sum_j cov_ij, and each item's rank
+    correlation with the total (NaN, reported as None, for an item that never varies)."""
     contrib = (
         np.asarray(variance_contributions, dtype=float)
         if variance_contributions is not None
@@ -59,7 +60,9 @@ def item_drivers(
             variance_share=float(c / var_total) if var_total > 0 else 0.0,
             skew_share=float(k / k3_total) if abs(k3_total) > 1e-300 else 0.0,
             rank_correlation_with_total=(
-                None if rank_with_total is None else float(rank_with_total[i])
+                float(rank_with_total[i])
+                if rank_with_total is not None and np.isfinite(rank_with_total[i])
+                else None
             ),
         )
         for i, (item, d, c, k) in enumerate(zip(items, dists, contrib, k3, strict=True))

@@ -120,7 +120,9 @@ class CorrelationPair:
 @dataclass
 class CorrelationSpec:
     """How the analyst states dependence: named pairs, a coefficient shared by all items of
-    a group, and a default for every other pair (0 unless set). All are rank correlations."""
+    a group, and a default for every other pair (0 unless set). All are rank correlations;
+    a pair's coefficient wins over its group's, a group's over the default
+    (engine.correlation)."""
 
     pairs: list[CorrelationPair] = field(default_factory=list)
     groups: dict[str, float] = field(default_factory=dict)
@@ -152,7 +154,9 @@ class Estimate:
 
     @property
     def problems(self) -> list[Problem]:
-        """Every problem: those found while reading, then those found validating each item."""
+        """Every problem: those found while reading, then those found validating each item,
+        then those in the stated correlations."""
+        from engine.correlation import spec_problems
         from engine.validation import item_problems
 
         found = list(self.read_problems)
@@ -160,6 +164,7 @@ class Estimate:
             found.extend(item.read_problems)
             if not item.read_problems:
                 found.extend(item_problems(item))
+        found.extend(spec_problems(self))
         return found
 
     def valid_items(self) -> list[LineItem]:

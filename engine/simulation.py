@@ -4,7 +4,9 @@ Every item draws from its own random stream (child `k` of the run's seed for ite
 editing one item leaves every other item's draws unchanged: the change in the total is the
 edit's effect, not fresh noise. Trials are drawn in replicates; each replicate is one
 complete design, which bounds memory and gives the batch standard errors of `SampleTotal`.
-Correlation, when given, is induced within each replicate by `scores` (see correlation.py).
+Correlation, when given, is induced within each replicate by `scores` (engine.iman_conover):
+the items' scores are then drawn together, and `observe` sees each replicate's item values
+before they are summed (engine.sample_statistics gathers the drivers from them).
 """
 
 from __future__ import annotations
@@ -20,8 +22,10 @@ from engine.totals import Cumulants, SampleTotal
 REPLICATES = 20
 MIN_PER_REPLICATE = 500
 
-# (rngs per item, trials in this replicate) -> uniform scores, one column per item
+# (rngs per item, trials in this replicate) -> uniform scores (items, trials): one row per item
 ScoreMaker = Callable[[list[np.random.Generator], int], np.ndarray]
+# (item values (items, trials), total (trials,)) of each replicate, before the next is drawn
+Observer = Callable[[np.ndarray, np.ndarray], None]
 
 
 def new_seed() -> int:
@@ -48,11 +52,13 @@ def simulate(
     sampling: str = "lhs",
     replicates: int = REPLICATES,
     scores: ScoreMaker | None = None,
+    observe: Observer | None = None,
+    min_per_replicate: int = 0,
     progress: Progress | None = None,
 ) -> SampleTotal:
     """Simulated total of the items; `scores` replaces independent sampling when given."""
     progress = progress or Progress()
-    replicates, per = replicate_layout(trials, replicates)
+    replicates, per = replicate_layout(trials, replicates, min_per_replicate)
     streams = item_streams(seed, len(dists))
     out = np.zeros((replicates, per))
     for r in range(replicates):
@@ -64,8 +70,12 @@ def simulate(
                     progress.report((r + k / len(dists)) / replicates)
         else:
             u = scores(streams, per)
+            values = np.empty((len(dists), per))
             for k, d in enumerate(dists):
-                row += d.sample(u[:, k])
+                values[k] = d.sample(u[k])
+            np.sum(values, axis=0, out=row)
+            if observe is not None:
+                observe(values, row)
         progress.report((r + 1) / replicates)
     return SampleTotal(out, sample_cumulants(out.ravel()), sampling=sampling)
 
@@ -79,8 +89,11 @@ def sample_cumulants(x: np.ndarray) -> Cumulants:
     return Cumulants(mean, var, k3, k4)
 
 
-def replicate_layout(trials: int, replicates: int = REPLICATES) -> tuple[int, int]:
-    """(replicates, trials in each): at least MIN_PER_REPLICATE trials per replicate, so a
+def replicate_layout(
+    trials: int, replicates: int = REPLICATES, min_per_replicate: int = 0
+) -> tuple[int, int]:
+    """(replicates, trials in each): at least MIN_PER_REPLICATE trials per replicate (or
+    `min_per_replicate` if larger: Iman-Conover needs more trials than items), so a
     replicate's percentiles are meaningful, and at least two replicates for an error."""
-    count = max(2, min(replicates, trials // MIN_PER_REPLICATE))
+    count = max(2, min(replicates, trials // max(MIN_PER_REPLICATE, min_per_replicate)))
     return count, max(trials // count, 1)

@@ -13,12 +13,14 @@ from engine.diagnostics import ItemDriver
 
 if TYPE_CHECKING:
     from engine.analysis import Diagnostics, LevelRow
+    from engine.correlation import Dependence
 
 FEW_ITEMS = 10  # common practice, no source
 DOMINANT_SHARE = 0.4  # common practice, no source
 NOTABLE_SKEW = 0.3  # common practice, no source
 NOTABLE_KURTOSIS = 1.0  # common practice, no source
 RARE_EVENT = 0.2  # probability of occurrence below which an event counts as rare
+NOTABLE_SPREAD_CHANGE = 0.05  # correlation moves the total's sd by 5% (common practice, no source)
 
 
 def compact(x: float) -> str:
@@ -30,8 +32,10 @@ def compact(x: float) -> str:
     return f"{x:.3g}"
 
 
-def reasons_for(diag: Diagnostics, drivers: Sequence[ItemDriver]) -> list[str]:
-    reasons: list[str] = []
+def reasons_for(
+    diag: Diagnostics, drivers: Sequence[ItemDriver], dependence: Dependence | None = None
+) -> list[str]:
+    reasons: list[str] = [] if dependence is None else dependence_reasons(dependence)
     if diag.uncertain_count < FEW_ITEMS:
         reasons.append(
             f"only {diag.uncertain_count} uncertain item(s): too few for the central limit "
@@ -67,6 +71,32 @@ def reasons_for(diag: Diagnostics, drivers: Sequence[ItemDriver]) -> list[str]:
         reasons.append(
             "the skew and kurtosis are beyond the Cornish–Fisher expansion's valid domain, "
             "so its column is unreliable"
+        )
+    return reasons
+
+
+def dependence_reasons(dependence: Dependence) -> list[str]:
+    """Correlation first: it is why the independence shortcut misses when it does."""
+    reasons = []
+    dependent, independent = dependence.sd_dependent, dependence.sd_independent
+    if independent > 0 and abs(dependent / independent - 1) >= NOTABLE_SPREAD_CHANGE:
+        sign, effect = (
+            ("positive", "widens") if dependent > independent else ("negative", "narrows")
+        )
+        reasons.append(
+            f"{sign} correlation {effect} the total: sd {compact(dependent)} against "
+            f"{compact(independent)} if independent"
+        )
+    if dependence.repaired and dependence.largest_change:
+        a, b, old, new = dependence.largest_change
+        reasons.append(
+            "the stated correlations were not a valid correlation matrix; the nearest valid one "
+            f"was used (largest change '{a}'-'{b}' {old:.2f} -> {new:.2f})"
+        )
+    if dependence.pearson_repaired:
+        reasons.append(
+            "the normal-score correlations induced for the rank targets were not a valid matrix "
+            "and were repaired to the nearest valid one"
         )
     return reasons
 
