@@ -19,6 +19,8 @@ from functools import lru_cache
 import numpy as np
 from scipy import linalg, special
 
+from engine.parallel import run_split
+
 
 def rank_to_pearson(rank: np.ndarray) -> np.ndarray:
     """Product-moment correlation of normal scores whose rank correlation is `rank`:
@@ -55,8 +57,12 @@ def score_matrix(streams: Sequence[np.random.Generator], n: int) -> np.ndarray:
     that item's own stream."""
     scores = van_der_waerden(n)
     s = np.empty((len(streams), n), dtype=scores.dtype)
-    for k, g in enumerate(streams):
-        np.take(scores, g.permutation(n), out=s[k])
+
+    def fill(part: range) -> None:
+        for k in part:
+            np.take(scores, streams[k].permutation(n), out=s[k])
+
+    run_split(fill, len(streams))
     return s
 
 
@@ -106,15 +112,22 @@ class ImanConoverScores:
             raise ValueError(
                 f"Iman-Conover needs more trials per replicate ({n}) than items ({len(streams)})."
             )
-        order = orders(induce(score_matrix(streams, n), self.factor))
+        t = induce(score_matrix(streams, n), self.factor)
+        order = np.empty(t.shape, dtype=np.intp)
         ranks = np.empty_like(order)
-        u = np.empty((len(streams), n))
+        u = np.empty(t.shape)
         strata = np.arange(n)
-        for k, g in enumerate(streams):
-            ranks[k, order[k]] = strata
-            if self.sampling == "lhs":
-                u[k, order[k]] = (strata + g.random(n)) / n
-            else:
-                u[k, order[k]] = np.sort(g.random(n))
+
+        def reorder(part: range) -> None:
+            order[part.start : part.stop] = orders(t[part.start : part.stop])
+            for k in part:
+                g = streams[k]
+                ranks[k, order[k]] = strata
+                if self.sampling == "lhs":
+                    u[k, order[k]] = (strata + g.random(n)) / n
+                else:
+                    u[k, order[k]] = np.sort(g.random(n))
+
+        run_split(reorder, len(streams))
         self.last_order, self.last_ranks = order, ranks
         return u

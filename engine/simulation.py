@@ -16,6 +16,7 @@ from collections.abc import Callable, Sequence
 import numpy as np
 
 from engine.distributions import Distribution
+from engine.parallel import run_split
 from engine.progress import Progress
 from engine.totals import Cumulants, SampleTotal
 
@@ -44,6 +45,21 @@ def uniform_scores(rng: np.random.Generator, m: int, sampling: str) -> np.ndarra
     return rng.random(m)
 
 
+def replicate_scores(
+    rng: np.random.Generator, replicates: int, m: int, sampling: str
+) -> np.ndarray:
+    """One item's scores for every replicate at once (replicates * m, replicate by
+    replicate): a Latin hypercube design of m strata per replicate, or plain random."""
+    if sampling == "lhs":
+        strata = rng.permuted(
+            np.broadcast_to(np.arange(m, dtype=np.float64), (replicates, m)), axis=1
+        )
+        strata += rng.random((replicates, m))
+        strata /= m
+        return strata.ravel()
+    return rng.random(replicates * m)
+
+
 def simulate(
     dists: Sequence[Distribution],
     *,
@@ -60,24 +76,54 @@ def simulate(
     progress = progress or Progress()
     replicates, per = replicate_layout(trials, replicates, min_per_replicate)
     streams = item_streams(seed, len(dists))
-    out = np.zeros((replicates, per))
-    for r in range(replicates):
-        row = out[r]
-        if scores is None:
-            for k, d in enumerate(dists):
-                row += d.sample(uniform_scores(streams[k], per, sampling))
-                if k % 256 == 255:
-                    progress.report((r + k / len(dists)) / replicates)
-        else:
+    if scores is None:
+        out = _independent(dists, streams, replicates, per, sampling, progress)
+    else:
+        out = np.zeros((replicates, per))
+        for r in range(replicates):
             u = scores(streams, per)
             values = np.empty((len(dists), per))
-            for k, d in enumerate(dists):
-                values[k] = d.sample(u[k])
-            np.sum(values, axis=0, out=row)
+
+            def draw(part: range, u=u, values=values) -> None:
+                for k in part:
+                    values[k] = dists[k].sample(u[k])
+
+            run_split(draw, len(dists))
+            np.sum(values, axis=0, out=out[r])
             if observe is not None:
-                observe(values, row)
-        progress.report((r + 1) / replicates)
+                observe(values, out[r])
+            progress.report((r + 1) / replicates)
     return SampleTotal(out, sample_cumulants(out.ravel()), sampling=sampling)
+
+
+def _independent(
+    dists: Sequence[Distribution],
+    streams: list[np.random.Generator],
+    replicates: int,
+    per: int,
+    sampling: str,
+    progress: Progress,
+) -> np.ndarray:
+    """Each item drawn once for all replicates; the two halves of the items on two threads,
+    each summing its own partial total."""
+    done = [0] * 2
+
+    def draw(part: range) -> np.ndarray:
+        partial = np.zeros(replicates * per)
+        half = 0 if part.start == 0 else 1
+        for i, k in enumerate(part):
+            partial += dists[k].sample(replicate_scores(streams[k], replicates, per, sampling))
+            if i % 8 == 7:
+                done[half] = i + 1
+                progress.report(sum(done) / len(dists))
+        return partial
+
+    partials = run_split(draw, len(dists))
+    total = partials[0]
+    for p in partials[1:]:
+        total += p
+    progress.report(1.0)
+    return total.reshape(replicates, per)
 
 
 def sample_cumulants(x: np.ndarray) -> Cumulants:
