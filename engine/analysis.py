@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import time
+from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import asdict, dataclass, field
 from typing import Any
@@ -370,9 +371,18 @@ def _check_settings(estimate, method, levels, trials, sampling, tolerance) -> No
 def base_estimate(items: Sequence[LineItem]) -> tuple[float, str]:
     """Sum of the items' point values, and a sentence saying which values those are."""
     values = [base_value(i) for i in items]
-    kinds = sorted({k for _, k in values if not k.startswith("risk")})
+    counts = Counter(k for (_, k), i in zip(values, items, strict=True) if not i.is_risk_event)
+    kinds = {
+        "most likely": "most likely value",
+        "mean": "mean",
+        "median": "median",
+        "most probable value": "most probable value",
+    }
+    parts = [f"the {said} for {counts[kind]}" for kind, said in kinds.items() if counts[kind]]
+    if parts:
+        parts[0] += " item" if sum(counts.values()) == 1 else " items"
+    basis = "sum of the base items' point values: " + (", ".join(parts) if parts else "none")
     events = sum(1 for i in items if i.is_risk_event)
-    basis = "sum of " + (", ".join(kinds) if kinds else "no") + " values of the base items"
     if events:
         basis += f"; {events} risk event(s) excluded (contingency carries them)"
     return math.fsum(v for v, _ in values), basis
