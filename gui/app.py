@@ -1,0 +1,67 @@
+"""Start the window: `run(path, screenshot)`, called by `rangefold gui`."""
+
+from __future__ import annotations
+
+import os
+import sys
+
+ORGANISATION = "Rangefold Project"
+APPLICATION = "Rangefold"
+SCREENSHOT_TIMEOUT_MS = 120_000
+
+
+def no_display() -> bool:
+    """On Linux without a display server Qt would abort with a trace; say what to do."""
+    if not sys.platform.startswith("linux") or os.environ.get("QT_QPA_PLATFORM"):
+        return False
+    return not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+
+
+def run(path: str | None, screenshot: str | None) -> int:
+    """Open the window on `path` (the demo when None); with `screenshot`, save a PNG of the
+    window once the first result is shown, and exit."""
+    if screenshot:
+        os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    if no_display():
+        print(
+            "rangefold: no display found. Set QT_QPA_PLATFORM=offscreen, or use "
+            "`rangefold gui --screenshot OUT.png` to render the window to a file.",
+            file=sys.stderr,
+        )
+        return 2
+    from PySide6.QtCore import QTimer
+    from PySide6.QtWidgets import QApplication
+
+    from gui.main_window import MainWindow
+
+    app = QApplication.instance() or QApplication([sys.argv[0] if sys.argv else APPLICATION])
+    app.setOrganizationName(ORGANISATION)
+    app.setApplicationName(APPLICATION)
+    window = MainWindow()
+    if screenshot:
+        window.resize(1440, 900)  # the same picture whatever size was last used
+    window.show()
+    outcome = {"code": 0}
+    if screenshot:
+
+        def save() -> None:
+            window.grab().save(screenshot)
+            window.close()
+            app.quit()
+
+        def give_up() -> None:
+            print("rangefold: the first result did not arrive in time.", file=sys.stderr)
+            outcome["code"] = 1
+            save()
+
+        window.result_shown.connect(lambda: QTimer.singleShot(300, save))
+        QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, give_up)
+    opened = window.open_path(path, interactive=not screenshot) if path else None
+    if path and not opened and screenshot:
+        return 2
+    if not path:
+        window.open_demo()
+    if not screenshot:
+        window.offer_recovery()
+    code = app.exec()
+    return outcome["code"] or code

@@ -1,0 +1,139 @@
+"""The item table view: spreadsheet keys (Tab and Enter move on), copy and paste of row
+blocks, and row operations on the selected rows, all through the ItemEditor."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QItemSelectionModel, Qt, Signal
+from PySide6.QtGui import QGuiApplication, QKeyEvent, QKeySequence
+from PySide6.QtWidgets import QAbstractItemDelegate, QAbstractItemView, QHeaderView, QTableView
+
+from gui.delegates import CheckedTextDelegate, FamilyDelegate
+from gui.item_editor import ItemEditor
+from gui.item_text import EDIT_COLUMNS, TABLE_COLUMNS
+
+COLUMN_WIDTHS = {"Item": 180, "Group": 84, "Distribution": 84, "Most likely": 92}
+
+
+class ItemTableView(QTableView):
+    # A clipboard block that could not be read: the message says how to fix it.
+    paste_failed = Signal(str)
+
+    def __init__(self, editor: ItemEditor, parent=None):
+        super().__init__(parent)
+        self.editor = editor
+        self.setModel(editor.model)
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectItems)
+        self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
+        self.setEditTriggers(
+            QAbstractItemView.EditTrigger.DoubleClicked
+            | QAbstractItemView.EditTrigger.EditKeyPressed
+            | QAbstractItemView.EditTrigger.AnyKeyPressed
+        )
+        self.setAlternatingRowColors(True)
+        self.setWordWrap(False)
+        self.setTabKeyNavigation(True)
+        text_delegate = CheckedTextDelegate(self)
+        self.setItemDelegate(text_delegate)
+        self.setItemDelegateForColumn(TABLE_COLUMNS.index("Distribution"), FamilyDelegate(self))
+        header = self.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setStretchLastSection(False)
+        for name, width in COLUMN_WIDTHS.items():
+            self.setColumnWidth(TABLE_COLUMNS.index(name), width)
+        for name in TABLE_COLUMNS:
+            if name not in COLUMN_WIDTHS:
+                self.setColumnWidth(TABLE_COLUMNS.index(name), 70)
+        vertical = self.verticalHeader()
+        vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
+        vertical.setDefaultSectionSize(self.fontMetrics().height() + 8)
+
+    # --- rows ---------------------------------------------------------------------------
+    def selected_rows(self) -> list[int]:
+        rows = {i.row() for i in self.selectionModel().selectedIndexes()}
+        if not rows and self.currentIndex().isValid():
+            rows = {self.currentIndex().row()}
+        return sorted(rows)
+
+    def select_rows(self, rows: list[int]) -> None:
+        model = self.model()
+        selection = self.selectionModel()
+        selection.clearSelection()
+        for row in rows:
+            selection.select(
+                model.index(row, 0),
+                QItemSelectionModel.SelectionFlag.Select | QItemSelectionModel.SelectionFlag.Rows,
+            )
+        if rows:
+            first = model.index(rows[0], 0)
+            selection.setCurrentIndex(first, QItemSelectionModel.SelectionFlag.NoUpdate)
+            self.scrollTo(first)
+
+    def add_row(self) -> None:
+        rows = self.selected_rows()
+        row = self.editor.add_row(rows[-1] + 1 if rows else None)
+        self.setCurrentIndex(self.model().index(row, 0))
+        self.edit(self.currentIndex())
+
+    def delete_rows(self) -> None:
+        rows = self.selected_rows()
+        self.editor.delete_rows(rows)
+        if rows and self.model().rowCount():
+            self.select_rows([min(rows[0], self.model().rowCount() - 1)])
+
+    def duplicate_rows(self) -> None:
+        self.select_rows(self.editor.duplicate_rows(self.selected_rows()))
+
+    def move_rows(self, delta: int) -> None:
+        self.select_rows(self.editor.move_rows(self.selected_rows(), delta))
+
+    # --- clipboard ----------------------------------------------------------------------
+    def copy(self) -> None:
+        rows = self.selected_rows()
+        if rows:
+            QGuiApplication.clipboard().setText(self.editor.copy_text(rows))
+
+    def paste(self) -> None:
+        self.paste_text(QGuiApplication.clipboard().text())
+
+    def paste_text(self, text: str) -> list[int]:
+        """One cell pastes into the current cell; a block is added after the current row."""
+        if not text.strip():
+            return []
+        current = self.currentIndex()
+        single = "\t" not in text.strip() and "\n" not in text.strip()
+        if single and current.isValid() and TABLE_COLUMNS[current.column()] in EDIT_COLUMNS:
+            self.editor.edit_cell(current.row(), current.column(), text.strip())
+            return [current.row()]
+        at = current.row() + 1 if current.isValid() else None
+        try:
+            rows = self.editor.paste_text(text, at)
+        except ValueError as bad:
+            self.paste_failed.emit(str(bad))
+            return []
+        self.select_rows(rows)
+        return rows
+
+    # --- keys ---------------------------------------------------------------------------
+    def keyPressEvent(self, event: QKeyEvent) -> None:
+        if event.matches(QKeySequence.StandardKey.Copy):
+            self.copy()
+        elif event.matches(QKeySequence.StandardKey.Paste):
+            self.paste()
+        elif (
+            event.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter)
+            and self.state() != QAbstractItemView.State.EditingState
+        ):
+            self._move_down()
+        else:
+            super().keyPressEvent(event)
+
+    def closeEditor(self, editor, hint) -> None:
+        # Enter commits and moves down, as in a spreadsheet; Tab moves right (Qt's default).
+        super().closeEditor(editor, hint)
+        if hint == QAbstractItemDelegate.EndEditHint.SubmitModelCache:
+            self._move_down()
+
+    def _move_down(self) -> None:
+        current = self.currentIndex()
+        if current.isValid() and current.row() + 1 < self.model().rowCount():
+            self.setCurrentIndex(self.model().index(current.row() + 1, current.column()))

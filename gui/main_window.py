@@ -1,0 +1,675 @@
+"""The main window: items on the left, the total on the right, settings at the side.
+
+It wires the parts together and owns the document (path, settings, modified state); the
+items themselves live in the ItemEditor's model, the figures come from the Recomputer.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from PySide6.QtCore import QSettings, QStandardPaths, Qt, QTimer, Signal
+from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
+from PySide6.QtWidgets import (
+    QDockWidget,
+    QFileDialog,
+    QGroupBox,
+    QHBoxLayout,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QProgressBar,
+    QPushButton,
+    QSplitter,
+    QToolButton,
+    QVBoxLayout,
+    QWidget,
+)
+
+from engine import Estimate, Settings
+from gui.item_editor import ItemEditor
+from gui.item_preview import ItemPreview
+from gui.item_table import ItemTableView
+from gui.recompute import Outcome, Recomputer
+from gui.recovery import RecoveryStore
+from gui.results_panel import ResultsPanel
+from gui.settings_panel import SettingsPanel
+
+APP_TITLE = "Rangefold"
+PROJECT_FILTER = "Rangefold project (*.rangefold)"
+SPREADSHEET_FILTER = "Spreadsheet (*.xlsx *.xlsm *.csv *.tsv *.txt)"
+REPORT_FILTERS = {
+    "Workbook report (*.xlsx)": ".xlsx",
+    "PDF report (*.pdf)": ".pdf",
+    "JSON data (*.json)": ".json",
+}
+RECENT_LIMIT = 8
+AUTOSAVE_MS = 60_000
+AUTOSAVE_AFTER_EDIT_MS = 2_000
+
+
+def caution_text() -> str:
+    from reports.caution import CAUTION
+
+    return CAUTION
+
+
+def default_recovery_dir() -> Path:
+    base = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
+    return Path(base) / "recovery"
+
+
+class MainWindow(QMainWindow):
+    # The first analysis shown (used by --screenshot to know the window is ready).
+    result_shown = Signal()
+
+    def __init__(
+        self,
+        store: QSettings | None = None,
+        recovery_dir: Path | None = None,
+        parent: QWidget | None = None,
+    ):
+        super().__init__(parent)
+        self.store = store or QSettings()
+        self.recovery = RecoveryStore(recovery_dir or default_recovery_dir())
+        self.path: Path | None = None  # the project file, once saved as one
+        self.source: str = ""  # where the items came from, for the title and the report
+        self._settings_dirty = False
+        self.last_outcome: Outcome | None = None
+        self.last_problem = ""
+
+        self.editor = ItemEditor(parent=self)
+        self.model = self.editor.model
+        self.undo_stack = self.editor.undo_stack
+        self.table = ItemTableView(self.editor)
+        self.preview = ItemPreview()
+        self.results = ResultsPanel()
+        self.settings_panel = SettingsPanel()
+        self.recomputer = Recomputer(parent=self)
+
+        self._build_layout()
+        self._build_status_bar()
+        self._build_actions()
+        self._connect()
+
+        self._autosave_timer = QTimer(self, interval=AUTOSAVE_MS)
+        self._autosave_timer.timeout.connect(self.autosave)
+        self._autosave_timer.start()
+        self._autosave_soon = QTimer(self, singleShot=True, interval=AUTOSAVE_AFTER_EDIT_MS)
+        self._autosave_soon.timeout.connect(self.autosave)
+        self.resize(1440, 900)
+        geometry = self.store.value("window/geometry")
+        if geometry is not None:
+            self.restoreGeometry(geometry)
+        self._update_title()
+
+    # --- building -----------------------------------------------------------------------
+    def _build_layout(self) -> None:
+        row_bar = QHBoxLayout()
+        row_bar.setContentsMargins(0, 0, 0, 0)
+        self.row_buttons: dict[str, QToolButton] = {}
+        for key, label, tip in (
+            ("add", "+ Row", "Add a row after the selection"),
+            ("duplicate", "Duplicate", "Copy the selected rows below them"),
+            ("delete", "Delete", "Delete the selected rows (Del)"),
+            ("up", "↑ Up", "Move the selected rows up"),
+            ("down", "↓ Down", "Move the selected rows down"),
+        ):
+            button = QToolButton(text=label, toolTip=tip, objectName=f"row-{key}")
+            button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
+            row_bar.addWidget(button)
+            self.row_buttons[key] = button
+        row_bar.addStretch(1)
+        self.left_out = QLabel(objectName="left-out")
+        self.left_out.setStyleSheet(
+            "background: #fde3a7; color: #3d2600; padding: 2px 6px; border-left: 4px solid #b35806;"
+        )
+        self.left_out.hide()
+        row_bar.addWidget(self.left_out)
+
+        items_box = QWidget()
+        items_layout = QVBoxLayout(items_box)
+        items_layout.setContentsMargins(4, 4, 4, 4)
+        title = QLabel("<b>Line items</b>")
+        items_layout.addWidget(title)
+        items_layout.addLayout(row_bar)
+        items_layout.addWidget(self.table, 1)
+
+        preview_box = QGroupBox("Selected item")
+        preview_layout = QVBoxLayout(preview_box)
+        preview_layout.setContentsMargins(4, 4, 4, 4)
+        preview_layout.addWidget(self.preview)
+
+        left = QSplitter(Qt.Orientation.Vertical)
+        left.addWidget(items_box)
+        left.addWidget(preview_box)
+        left.setStretchFactor(0, 3)
+        left.setStretchFactor(1, 2)
+
+        results_box = QWidget()
+        results_layout = QVBoxLayout(results_box)
+        results_layout.setContentsMargins(4, 4, 4, 4)
+        results_layout.addWidget(QLabel("<b>Total</b>"))
+        results_layout.addWidget(self.results, 1)
+
+        self.splitter = QSplitter(Qt.Orientation.Horizontal)
+        self.splitter.addWidget(left)
+        self.splitter.addWidget(results_box)
+        self.splitter.setStretchFactor(0, 1)
+        self.splitter.setStretchFactor(1, 1)
+        self.splitter.setSizes([640, 520])
+
+        self.caution = QLabel(caution_text(), objectName="caution", wordWrap=True)
+        self.caution.setStyleSheet("color: #3a4750; font-style: italic; padding: 2px 6px;")
+        central = QWidget()
+        central_layout = QVBoxLayout(central)
+        central_layout.setContentsMargins(2, 2, 2, 0)
+        central_layout.addWidget(self.splitter, 1)
+        central_layout.addWidget(self.caution)
+        self.setCentralWidget(central)
+
+        side = QWidget()
+        side_layout = QVBoxLayout(side)
+        side_layout.setContentsMargins(4, 8, 4, 4)
+        settings_box = QGroupBox("Settings")
+        QVBoxLayout(settings_box).addWidget(self.settings_panel)
+        explanation_box = QGroupBox("How these figures were made")
+        QVBoxLayout(explanation_box).addWidget(self.results.explanation)
+        side_layout.addWidget(settings_box)
+        side_layout.addWidget(explanation_box, 1)
+        self.settings_dock = QDockWidget("Analysis panel", self, objectName="settings-dock")
+        self.settings_dock.setWidget(side)
+        self.settings_dock.setFeatures(
+            QDockWidget.DockWidgetFeature.DockWidgetMovable
+            | QDockWidget.DockWidgetFeature.DockWidgetClosable
+        )
+        self.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, self.settings_dock)
+        self.resizeDocks([self.settings_dock], [300], Qt.Orientation.Horizontal)
+
+    def _build_status_bar(self) -> None:
+        bar = self.statusBar()
+        self.compute_label = QLabel(objectName="compute")
+        self.progress = QProgressBar(objectName="progress", maximumWidth=180)
+        self.progress.setRange(0, 100)
+        self.cancel_button = QPushButton("Cancel", objectName="cancel")
+        self.cancel_button.setToolTip("Stop the running computation")
+        bar.addPermanentWidget(self.compute_label)
+        bar.addPermanentWidget(self.progress)
+        bar.addPermanentWidget(self.cancel_button)
+        self.progress.hide()
+        self.cancel_button.hide()
+
+    def _action(self, text: str, slot, shortcut=None, menu=None, tip: str = "") -> QAction:
+        action = QAction(text, self)
+        if shortcut is not None:
+            action.setShortcut(QKeySequence(shortcut))
+        if tip:
+            action.setStatusTip(tip)
+        action.triggered.connect(slot)
+        if menu is not None:
+            menu.addAction(action)
+        return action
+
+    def _build_actions(self) -> None:
+        menus = self.menuBar()
+        file_menu = menus.addMenu("&File")
+        self._action("&New estimate", self.new_document, QKeySequence.StandardKey.New, file_menu)
+        self._action("&Open…", self.open_dialog, QKeySequence.StandardKey.Open, file_menu)
+        self._action(
+            "&Import items…",
+            self.import_items_dialog,
+            "Ctrl+I",
+            file_menu,
+            "Add the rows of a spreadsheet to this estimate",
+        )
+        self.recent_menu = file_menu.addMenu("Open &recent")
+        file_menu.addSeparator()
+        self._action("&Save", self.save, QKeySequence.StandardKey.Save, file_menu)
+        self._action("Save &as…", self.save_as, QKeySequence.StandardKey.SaveAs, file_menu)
+        self._action("&Export report…", self.export_dialog, "Ctrl+E", file_menu)
+        file_menu.addSeparator()
+        self._action("&Quit", self.close, QKeySequence.StandardKey.Quit, file_menu)
+
+        edit_menu = menus.addMenu("&Edit")
+        undo = self.undo_stack.createUndoAction(self, "&Undo")
+        undo.setShortcut(QKeySequence.StandardKey.Undo)
+        redo = self.undo_stack.createRedoAction(self, "&Redo")
+        redo.setShortcut(QKeySequence.StandardKey.Redo)
+        edit_menu.addActions([undo, redo])
+        edit_menu.addSeparator()
+        table_actions = [
+            self._action("&Copy rows", self.table.copy, QKeySequence.StandardKey.Copy, edit_menu),
+            self._action(
+                "&Paste rows", self.table.paste, QKeySequence.StandardKey.Paste, edit_menu
+            ),
+        ]
+        edit_menu.addSeparator()
+        rows_menu = menus.addMenu("&Rows")
+        table_actions += [
+            self._action("&Add row", self.table.add_row, "Ctrl+Shift+N", rows_menu),
+            self._action("D&uplicate rows", self.table.duplicate_rows, "Ctrl+D", rows_menu),
+            self._action(
+                "&Delete rows", self.table.delete_rows, QKeySequence.StandardKey.Delete, rows_menu
+            ),
+            self._action("Move &up", lambda: self.table.move_rows(-1), "Alt+Up", rows_menu),
+            self._action("Move d&own", lambda: self.table.move_rows(1), "Alt+Down", rows_menu),
+        ]
+        for action in table_actions:
+            # Row keys act on the table only, so Delete and Ctrl+C keep working in text fields.
+            action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
+            self.table.addAction(action)
+        buttons = self.row_buttons
+        buttons["add"].clicked.connect(self.table.add_row)
+        buttons["duplicate"].clicked.connect(self.table.duplicate_rows)
+        buttons["delete"].clicked.connect(self.table.delete_rows)
+        buttons["up"].clicked.connect(lambda: self.table.move_rows(-1))
+        buttons["down"].clicked.connect(lambda: self.table.move_rows(1))
+
+        view_menu = menus.addMenu("&View")
+        settings_toggle = self.settings_dock.toggleViewAction()
+        settings_toggle.setText("Analysis &panel")
+        settings_toggle.setShortcut(QKeySequence("Ctrl+,"))
+        view_menu.addAction(settings_toggle)
+        self._action("&Recompute now", self.recompute_now, "F5", view_menu)
+        self._update_recent_menu()
+
+    def _connect(self) -> None:
+        self.model.items_changed.connect(self._items_changed)
+        self.undo_stack.cleanChanged.connect(lambda _clean: self._update_title())
+        self.settings_panel.changed.connect(self._settings_changed)
+        self.table.selectionModel().currentRowChanged.connect(lambda *_: self._show_preview())
+        self.table.paste_failed.connect(self._paste_failed)
+        self.recomputer.started.connect(self._compute_started)
+        self.recomputer.progress.connect(self._compute_progress)
+        self.recomputer.finished.connect(self._compute_finished)
+        self.recomputer.failed.connect(self._compute_failed)
+        self.recomputer.cancelled.connect(self._compute_cancelled)
+        self.cancel_button.clicked.connect(self.recomputer.cancel)
+
+    # --- the document -------------------------------------------------------------------
+    @property
+    def estimate(self) -> Estimate:
+        return self.model.estimate
+
+    @property
+    def settings(self) -> Settings:
+        return self.settings_panel.settings
+
+    def is_modified(self) -> bool:
+        return self._settings_dirty or not self.undo_stack.isClean()
+
+    def set_document(
+        self, estimate: Estimate, settings: Settings, path: Path | None, source: str = ""
+    ) -> None:
+        self.path = Path(path) if path else None
+        self.source = source or (str(path) if path else estimate.source)
+        self._settings_dirty = False
+        self.settings_panel.set_settings(settings)
+        self.editor.set_estimate(estimate)
+        if self.model.rowCount():
+            self.table.select_rows([0])
+        self._update_title()
+        self.recompute_now()
+
+    def new_document(self) -> None:
+        if self.maybe_save():
+            self.set_document(Estimate(title="New estimate"), Settings(), None)
+
+    def open_demo(self) -> None:
+        from fileio.demo import DEMO_WORKBOOK
+
+        self.open_path(DEMO_WORKBOOK, interactive=False)
+
+    def open_dialog(self) -> None:
+        if not self.maybe_save():
+            return
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Open an estimate", self._last_folder(), f"{PROJECT_FILTER};;{SPREADSHEET_FILTER}"
+        )
+        if path:
+            self.open_path(path)
+
+    def open_path(self, path: str | Path, interactive: bool = True) -> bool:
+        """Open a project file, or a spreadsheet through the import dialog (interactive)."""
+        from fileio.project import PROJECT_SUFFIX, load_project
+
+        path = Path(path)
+        try:
+            if path.suffix.lower() == PROJECT_SUFFIX:
+                estimate, settings = load_project(path)
+                self.set_document(estimate, settings, path)
+            else:
+                estimate = self._read_spreadsheet(path, interactive)
+                if estimate is None:
+                    return False
+                self.set_document(estimate, Settings(unit=estimate.unit or ""), None, str(path))
+        except (ValueError, OSError) as bad:
+            self._warn(f"{path.name} could not be opened", str(bad))
+            return False
+        self._add_recent(path)
+        return True
+
+    def _read_spreadsheet(self, path: Path, interactive: bool) -> Estimate | None:
+        if not interactive:
+            from engine import read_estimate
+
+            return read_estimate(path)
+        from gui.import_dialog import ImportDialog
+
+        dialog = ImportDialog(path, self)
+        if dialog.exec() != ImportDialog.DialogCode.Accepted or dialog.estimate is None:
+            return None
+        return dialog.estimate
+
+    def import_items_dialog(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Import items", self._last_folder(), SPREADSHEET_FILTER
+        )
+        if path:
+            self.import_items(path)
+
+    def import_items(self, path: str | Path, interactive: bool = True) -> list[int]:
+        """Add a spreadsheet's rows to this estimate, as one undoable step."""
+        path = Path(path)
+        try:
+            estimate = self._read_spreadsheet(path, interactive)
+        except (ValueError, OSError) as bad:
+            self._warn(f"{path.name} could not be imported", str(bad))
+            return []
+        if estimate is None:
+            return []
+        rows = self.editor.insert_items(
+            estimate.items, None, f"import {len(estimate.items)} item(s) from {path.name}"
+        )
+        self.table.select_rows(rows)
+        return rows
+
+    def save(self) -> bool:
+        if self.path is None:
+            return self.save_as()
+        return self._save_to(self.path)
+
+    def save_as(self) -> bool:
+        from fileio.project import PROJECT_SUFFIX
+
+        suggested = self.path or Path(self._last_folder()) / (
+            (Path(self.source).stem if self.source else "estimate") + PROJECT_SUFFIX
+        )
+        path, _ = QFileDialog.getSaveFileName(
+            self, "Save the estimate", str(suggested), PROJECT_FILTER
+        )
+        if not path:
+            return False
+        path = Path(path)
+        if path.suffix.lower() != PROJECT_SUFFIX:
+            path = path.with_name(path.name + PROJECT_SUFFIX)
+        return self._save_to(path)
+
+    def _save_to(self, path: Path) -> bool:
+        from fileio.project import save_project
+
+        try:
+            save_project(path, self.estimate, self.settings)
+        except (OSError, ValueError) as bad:
+            self._warn("The estimate could not be saved", f"{path}: {bad}")
+            return False
+        self.path = path
+        self.source = str(path)
+        self._settings_dirty = False
+        self.undo_stack.setClean()
+        self.recovery.clear()
+        self._add_recent(path)
+        self._update_title()
+        self.statusBar().showMessage(f"Saved {path}", 5000)
+        return True
+
+    def maybe_save(self) -> bool:
+        """True when it is fine to drop the current document (saved, discarded)."""
+        if not self.is_modified():
+            return True
+        answer = QMessageBox.question(
+            self,
+            "Unsaved changes",
+            "This estimate has changes that are not saved. Save them first?",
+            QMessageBox.StandardButton.Save
+            | QMessageBox.StandardButton.Discard
+            | QMessageBox.StandardButton.Cancel,
+            QMessageBox.StandardButton.Save,
+        )
+        if answer == QMessageBox.StandardButton.Save:
+            return self.save()
+        return answer == QMessageBox.StandardButton.Discard
+
+    # --- export -------------------------------------------------------------------------
+    def export_dialog(self) -> None:
+        if self.last_outcome is None:
+            self._warn(
+                "Nothing to export yet", self.last_problem or "The total is not computed yet."
+            )
+            return
+        stem = Path(self.source).stem if self.source else "estimate"
+        path, chosen = QFileDialog.getSaveFileName(
+            self,
+            "Export the contingency report",
+            str(Path(self._last_folder()) / f"{stem} contingency.xlsx"),
+            ";;".join(REPORT_FILTERS),
+        )
+        if path:
+            path = Path(path)
+            if path.suffix.lower() not in REPORT_FILTERS.values():
+                path = path.with_name(path.name + REPORT_FILTERS.get(chosen, ".xlsx"))
+            self.export_report(path)
+
+    def export_report(self, path: str | Path) -> Path | None:
+        """Write the report of the figures on screen (the last finished analysis)."""
+        from reports import write_report
+
+        outcome = self.last_outcome
+        if outcome is None:
+            return None
+        try:
+            written = write_report(
+                path,
+                outcome.estimate,
+                outcome.analysis,
+                outcome.settings,
+                source_path=self.path or (Path(self.source) if self.source else None),
+            )
+        except (OSError, ValueError) as bad:
+            self._warn("The report could not be written", f"{path}: {bad}")
+            return None
+        self.statusBar().showMessage(f"Report written to {written}", 8000)
+        return Path(written)
+
+    # --- recompute ----------------------------------------------------------------------
+    def _items_changed(self) -> None:
+        self._update_title()
+        self._show_preview()
+        self._autosave_soon.start()
+        self.schedule_recompute()
+
+    def _settings_changed(self, settings: Settings) -> None:
+        self._settings_dirty = True
+        self._update_title()
+        self._autosave_soon.start()
+        self.schedule_recompute()
+        self._show_preview()
+
+    def analysed_estimate(self) -> tuple[Estimate, int]:
+        """The estimate made of the valid rows only, and how many rows were left out."""
+        full = self.estimate
+        valid = self.model.valid_items()
+        summary = dict(full.summary)
+        left_out = len(full.items) - len(valid)
+        summary["drafts"] = left_out
+        estimate = Estimate(
+            items=valid,
+            title=full.title,
+            unit=self.settings.unit or full.unit,
+            source=full.source or self.source,
+            read_problems=[],
+            summary=summary,
+            correlation=full.correlation,
+        )
+        return estimate, left_out
+
+    def schedule_recompute(self, now: bool = False) -> None:
+        estimate, left_out = self.analysed_estimate()
+        self.left_out.setText(
+            f"⚠ {left_out} row{'s' if left_out != 1 else ''} left out of the total "
+            "(marked cells; hover for the fix)"
+        )
+        self.left_out.setVisible(left_out > 0)
+        if not estimate.items:
+            self.recomputer.cancel()
+            self.last_outcome = None
+            self.last_problem = (
+                "No row can be used yet: add line items or fix the marked cells."
+                if self.estimate.items
+                else "The estimate has no line items yet: add a row or open a file."
+            )
+            self.results.show_problem(self.last_problem)
+            self.compute_label.setText("")
+            return
+        self.recomputer.request(estimate, self.settings)
+        if now:
+            self.recomputer.run_now()
+
+    def recompute_now(self) -> None:
+        self.schedule_recompute(now=True)
+
+    def _compute_started(self, _request_id: int) -> None:
+        self.compute_label.setText("Computing…")
+        self.progress.setValue(0)
+        self.progress.show()
+        self.cancel_button.show()
+
+    def _compute_progress(self, fraction: float) -> None:
+        self.progress.setValue(round(100 * fraction))
+
+    def _compute_done(self) -> None:
+        self.progress.hide()
+        self.cancel_button.hide()
+
+    def _compute_finished(self, outcome: Outcome) -> None:
+        self._compute_done()
+        self.last_outcome = outcome
+        self.last_problem = ""
+        analysis = outcome.analysis
+        left_out = outcome.estimate.summary.get("drafts", 0)
+        notices = (
+            [f"{left_out} row(s) left out of the total: fix the marked cells."] if left_out else []
+        )
+        self.results.show_analysis(analysis, outcome.settings.unit, notices)
+        self.compute_label.setText(compute_text(analysis))
+        self.result_shown.emit()
+
+    def _compute_failed(self, message: str) -> None:
+        self._compute_done()
+        self.last_outcome = None
+        self.last_problem = message
+        self.results.show_problem(message)
+        self.compute_label.setText("Not computed: see the message above the charts")
+
+    def _compute_cancelled(self) -> None:
+        self._compute_done()
+        self.compute_label.setText("Cancelled: the figures shown are from before the last change")
+
+    # --- small parts --------------------------------------------------------------------
+    def _show_preview(self) -> None:
+        current = self.table.currentIndex()
+        if not current.isValid() or current.row() >= self.model.rowCount():
+            self.preview.clear()
+            return
+        row = current.row()
+        self.preview.show_item(self.model.items[row], self.model.check(row), self.settings.unit)
+
+    def _paste_failed(self, message: str) -> None:
+        self._warn("The clipboard could not be pasted", message)
+
+    def _warn(self, title: str, message: str) -> None:
+        QMessageBox.warning(self, title, message)
+
+    def _update_title(self) -> None:
+        name = self.path.name if self.path else (Path(self.source).name if self.source else "")
+        name = name or (self.estimate.title or "Untitled estimate")
+        self.setWindowTitle(f"{name}[*] — {APP_TITLE}")
+        self.setWindowModified(self.is_modified())
+
+    def _last_folder(self) -> str:
+        recent = self.recent_files()
+        return str(Path(recent[0]).parent) if recent else str(Path.home())
+
+    def recent_files(self) -> list[str]:
+        value = self.store.value("recent_files", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in value or []]
+
+    def _add_recent(self, path: Path) -> None:
+        files = [str(path)] + [f for f in self.recent_files() if f != str(path)]
+        self.store.setValue("recent_files", files[:RECENT_LIMIT])
+        self._update_recent_menu()
+
+    def _update_recent_menu(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent_files()
+        for f in files:
+            action = self.recent_menu.addAction(f)
+            action.triggered.connect(lambda _=False, f=f: self.maybe_save() and self.open_path(f))
+        self.recent_menu.setEnabled(bool(files))
+
+    # --- autosave and close -------------------------------------------------------------
+    def autosave(self) -> None:
+        if not self.is_modified():
+            return
+        try:
+            self.recovery.save(self.estimate, self.settings, self.path)
+        except (OSError, ValueError) as bad:
+            self.statusBar().showMessage(f"Autosave failed: {bad}", 8000)
+
+    def offer_recovery(self) -> bool:
+        """After a crash: offer the autosaved work back. True when it was restored."""
+        found = self.recovery.find()
+        if found is None:
+            return False
+        where = str(found.original) if found.original else "an unsaved estimate"
+        answer = QMessageBox.question(
+            self,
+            "Recover unsaved work",
+            f"Rangefold did not close cleanly last time. Work on {where} was kept. Restore it?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
+            QMessageBox.StandardButton.Yes,
+        )
+        if answer != QMessageBox.StandardButton.Yes:
+            self.recovery.clear()
+            return False
+        try:
+            estimate, settings = self.recovery.load(found)
+        except (OSError, ValueError) as bad:
+            self._warn("The recovered work could not be read", str(bad))
+            return False
+        self.set_document(estimate, settings, found.original)
+        self._settings_dirty = True  # recovered work is unsaved until the user saves it
+        self._update_title()
+        return True
+
+    def closeEvent(self, event: QCloseEvent) -> None:
+        if not self.maybe_save():
+            event.ignore()
+            return
+        self.store.setValue("window/geometry", self.saveGeometry())
+        self.recomputer.cancel()
+        self.recomputer.wait()
+        self.recovery.clear()
+        event.accept()
+
+
+def compute_text(analysis) -> str:
+    """The status bar's account of how the figures were made."""
+    if analysis.method == "simulation":
+        sampling = "Latin hypercube" if analysis.sampling == "lhs" else "plain random"
+        text = f"Simulation · {analysis.trials:,} trials · {sampling} · seed {analysis.seed}"
+    else:
+        text = "Exact convolution"
+    return f"{text} · {analysis.compute_seconds:.2f} s"

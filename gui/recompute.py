@@ -1,0 +1,154 @@
+"""Recompute the analysis off the GUI thread, debounced, newest request wins.
+
+Edits come in bursts, so a request waits `delay_ms` for the next one (single-shot timer)
+before a worker starts. Each start gets a larger request id and cancels the job before it;
+a result, failure or cancellation reaches the window only if it carries the newest id.
+"""
+
+from __future__ import annotations
+
+import threading
+from dataclasses import dataclass
+
+from PySide6.QtCore import QObject, QRunnable, QThreadPool, QTimer, Signal
+
+from engine import Analysis, Cancelled, Estimate, InputError, Settings, analyze
+
+DEBOUNCE_MS = 300
+PROGRESS_STEP = 0.01
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """A finished analysis with the exact inputs it was computed from."""
+
+    request_id: int
+    estimate: Estimate
+    settings: Settings
+    analysis: Analysis
+
+
+class _JobSignals(QObject):
+    # Created on the GUI thread, emitted from the worker: Qt queues them to the GUI thread.
+    finished = Signal(int, object)
+    failed = Signal(int, str)
+    cancelled = Signal(int)
+    progress = Signal(int, float)
+
+
+class _AnalysisJob(QRunnable):
+    def __init__(self, request_id: int, estimate: Estimate, settings: Settings, signals):
+        super().__init__()
+        self.request_id = request_id
+        self.estimate = estimate
+        self.settings = settings
+        self.signals = signals
+        self.stop = threading.Event()
+        self._reported = -1.0
+
+    def _progress(self, fraction: float) -> None:
+        if fraction - self._reported >= PROGRESS_STEP or fraction >= 1:
+            self._reported = fraction
+            self.signals.progress.emit(self.request_id, fraction)
+
+    def run(self) -> None:
+        try:
+            analysis = analyze(
+                self.estimate,
+                **self.settings.analyze_kwargs(),
+                progress=self._progress,
+                cancel=self.stop.is_set,
+            )
+        except Cancelled:
+            self.signals.cancelled.emit(self.request_id)
+        except InputError as bad:
+            self.signals.failed.emit(self.request_id, "\n".join(str(p) for p in bad.problems))
+        except Exception as bad:  # a worker must report, never die silently
+            self.signals.failed.emit(self.request_id, f"{type(bad).__name__}: {bad}")
+        else:
+            self.signals.finished.emit(
+                self.request_id, Outcome(self.request_id, self.estimate, self.settings, analysis)
+            )
+
+
+class Recomputer(QObject):
+    started = Signal(int)
+    finished = Signal(object)  # Outcome
+    failed = Signal(str)
+    cancelled = Signal()
+    progress = Signal(float)
+
+    def __init__(self, delay_ms: int = DEBOUNCE_MS, parent: QObject | None = None):
+        super().__init__(parent)
+        self._pool = QThreadPool(self)
+        self._pool.setMaxThreadCount(2)
+        self._timer = QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(delay_ms)
+        self._timer.timeout.connect(self.run_now)
+        self._signals = _JobSignals(self)
+        self._signals.finished.connect(self._on_finished)
+        self._signals.failed.connect(self._on_failed)
+        self._signals.cancelled.connect(self._on_cancelled)
+        self._signals.progress.connect(self._on_progress)
+        self._pending: tuple[Estimate, Settings] | None = None
+        self._job: _AnalysisJob | None = None
+        self.latest_id = 0
+        self.dropped = 0  # results that arrived after a newer request: discarded
+
+    @property
+    def busy(self) -> bool:
+        return self._job is not None or self._timer.isActive()
+
+    def request(self, estimate: Estimate, settings: Settings) -> None:
+        """Ask for a recompute; a burst of requests starts one job after the last."""
+        self._pending = (estimate, settings)
+        self._timer.start()
+
+    def run_now(self) -> int:
+        """Start the pending request at once, superseding the running job."""
+        self._timer.stop()
+        if self._pending is None:
+            return self.latest_id
+        estimate, settings = self._pending
+        self._pending = None
+        if self._job is not None:
+            self._job.stop.set()
+        self.latest_id += 1
+        self._job = _AnalysisJob(self.latest_id, estimate, settings, self._signals)
+        self._pool.start(self._job)
+        self.started.emit(self.latest_id)
+        return self.latest_id
+
+    def cancel(self) -> None:
+        self._timer.stop()
+        self._pending = None
+        if self._job is not None:
+            self._job.stop.set()
+
+    def wait(self, msecs: int = 30_000) -> bool:
+        """Block until the workers are done (closing the window, tests)."""
+        return self._pool.waitForDone(msecs)
+
+    def _current(self, request_id: int) -> bool:
+        if request_id != self.latest_id:
+            self.dropped += 1
+            return False
+        self._job = None
+        return True
+
+    def _on_finished(self, request_id: int, outcome: Outcome) -> None:
+        if self._current(request_id):
+            self.finished.emit(outcome)
+
+    def _on_failed(self, request_id: int, message: str) -> None:
+        if self._current(request_id):
+            self.failed.emit(message)
+
+    def _on_cancelled(self, request_id: int) -> None:
+        if self._current(request_id):
+            self.cancelled.emit()
+
+    def _on_progress(self, request_id: int, fraction: float) -> None:
+        if request_id == self.latest_id:
+            self.progress.emit(fraction)

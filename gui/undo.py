@@ -1,0 +1,49 @@
+"""QUndoCommand around gui.commands: Qt only labels, stacks and merges them."""
+
+from __future__ import annotations
+
+from PySide6.QtGui import QUndoCommand
+
+from gui.commands import Command, ReplaceItems
+from gui.item_model import ItemTableModel
+
+CELL_EDIT_ID = 1
+
+
+class ItemsUndoCommand(QUndoCommand):
+    """Runs a command on the model; remembers its inverse for undo.
+
+    `cell` (row, column) marks a single-cell edit: successive edits of the same cell merge
+    into one undo step, which keeps the first edit's inverse and the latest edit's result.
+    """
+
+    def __init__(
+        self,
+        model: ItemTableModel,
+        command: Command,
+        text: str,
+        cell: tuple[int, int] | None = None,
+    ):
+        super().__init__(text)
+        self._model = model
+        self._forward = command
+        self._inverse: Command | None = None
+        self._cell = cell
+
+    def redo(self) -> None:
+        self._inverse = self._model.execute(self._forward)
+
+    def undo(self) -> None:
+        assert self._inverse is not None
+        self._forward = self._model.execute(self._inverse)
+
+    def id(self) -> int:
+        return CELL_EDIT_ID if self._cell is not None else -1
+
+    def mergeWith(self, other: QUndoCommand) -> bool:
+        if not isinstance(other, ItemsUndoCommand) or other._cell != self._cell:
+            return False
+        if not isinstance(other._forward, ReplaceItems):
+            return False
+        self._forward = other._forward
+        return True
