@@ -20,4 +20,6 @@ def pytest_sessionfinish(session: pytest.Session, exitstatus: int) -> None:
     if os.environ.get("CI") and skipped and exitstatus == 0:
         session.exitstatus = pytest.ExitCode.TESTS_FAILED
         if reporter:
-            reporter.write_line(f"CI: {skipped} test(s) skipped; a skipped test fails CI.", red=True)
+            reporter.write_line(
+                f"CI: {skipped} test(s) skipped; a skipped test fails CI.", red=True
+            )

@@ -60,9 +60,17 @@ def main() -> None:
     cases = [
         (f"{big:,} items, exact", "exact", big, 100_000, None),
         (f"{big:,} items x 100k trials, simulation", "simulation", big, 100_000, None),
-        ("200 items x 1M trials, simulation", "simulation", 200, 1_000_000, ("naive", 200, 1_000_000)),
+        (
+            "200 items x 1M trials, simulation",
+            "simulation",
+            200,
+            1_000_000,
+            ("naive", 200, 1_000_000),
+        ),
     ]
-    print(f"{'case':44} {'seconds':>9} {'peak MB':>9} | {'naive s':>8} {'naive MB':>9} {'mem ratio':>9}")
+    print(
+        f"{'case':44} {'seconds':>9} {'peak MB':>9} | {'naive s':>8} {'naive MB':>9} {'mem ratio':>9}"
+    )
     for label, kind, n, trials, ref in cases:
         ours = run(kind, n, trials)
         line = f"{label:44} {ours['seconds']:9.2f} {ours['peak_mb']:9.0f} |"
@@ -73,7 +81,9 @@ def main() -> None:
         else:
             line += f" {'-':>8} {'-':>9} {'-':>9}"
         print(line, flush=True)
-    print("naive: numpy draws the whole trials x items matrix at once and sums it (triangular only).")
+    print(
+        "naive: numpy draws the whole trials x items matrix at once and sums it (triangular only)."
+    )
 
 
 if __name__ == "__main__":
