@@ -18,6 +18,7 @@ import math
 from collections.abc import Callable, Sequence
 
 import numpy as np
+from scipy import fft as sp_fft
 from scipy import signal
 
 from engine.distributions import Beta, Distribution, Fixed, Triangular, Uniform
@@ -29,6 +30,8 @@ from engine.totals import Cumulants, GridTotal, PointTotal, Total
 RESOLUTION = 2000
 # Tail probability folded onto an unbounded item's grid ends, per side.
 ITEM_TAIL = 1e-10
+# Points in one stacked FFT of a tree level's merges (bounds its memory to ~100 MB).
+BATCH_POINTS = 1 << 22
 # Mass below which a tail of a partial convolution is folded into its neighbour.
 TRIM = 1e-15
 # Largest grid one item may take; beyond it the item's tails are folded in harder.
@@ -142,20 +145,59 @@ def coarsen(lattice: Lattice) -> Lattice:
 def _convolve_tree(
     lattices: list[Lattice], report: Callable[[float], None]
 ) -> tuple[int, np.ndarray]:
-    """Pairwise merges in a balanced tree: partial sums stay short until the last levels."""
-    merges_done, merges_total = 0, max(len(lattices) - 1, 1)
+    """Pairwise merges in a balanced tree: partial sums stay short until the last levels.
+
+    Each level pairs arrays of similar length and merges the pairs in stacked FFTs, a few
+    numpy calls per level rather than a few per pair (the per-call cost dominated)."""
+    levels_total = max(math.ceil(math.log2(max(len(lattices), 1))), 1)
+    level = 0
     while len(lattices) > 1:
+        lattices = sorted(lattices, key=lambda lat: len(lat[1]))
+        rest = [lattices.pop()] if len(lattices) % 2 else []
+        pairs = [(lattices[j], lattices[j + 1]) for j in range(0, len(lattices), 2)]
         merged: list[Lattice] = []
-        for j in range(0, len(lattices) - 1, 2):
-            merged.append(_merge(lattices[j], lattices[j + 1]))
-            merges_done += 1
-            if merges_done % 32 == 0:
-                report(merges_done / merges_total)
-        if len(lattices) % 2:
-            merged.append(lattices[-1])
-        lattices = merged
+        for batch in _similar_batches(pairs):
+            merged.extend(_merge_batch(batch))
+        lattices = merged + rest
+        level += 1
+        report(level / levels_total)
     report(1.0)
     return lattices[0]
+
+
+def _similar_batches(pairs: list[tuple[Lattice, Lattice]]) -> list[list[tuple[Lattice, Lattice]]]:
+    """Consecutive pairs whose lengths are within 1.5x of the batch's first, and whose
+    stacked FFT stays within BATCH_POINTS."""
+    batches: list[list[tuple[Lattice, Lattice]]] = []
+    for pair in pairs:
+        size = len(pair[0][1]) + len(pair[1][1])
+        if batches:
+            first = batches[-1][0]
+            first_size = len(first[0][1]) + len(first[1][1])
+            if size <= 1.5 * first_size and (len(batches[-1]) + 1) * size <= BATCH_POINTS:
+                batches[-1].append(pair)
+                continue
+        batches.append([pair])
+    return batches
+
+
+def _merge_batch(batch: list[tuple[Lattice, Lattice]]) -> list[Lattice]:
+    if len(batch) == 1:
+        return [_merge(*batch[0])]
+    la = max(len(a[1]) for a, _ in batch)
+    lb = max(len(b[1]) for _, b in batch)
+    nfft = sp_fft.next_fast_len(la + lb - 1, real=True)
+    left = np.zeros((len(batch), la))
+    right = np.zeros((len(batch), lb))
+    for i, (a, b) in enumerate(batch):
+        left[i, : len(a[1])] = a[1]
+        right[i, : len(b[1])] = b[1]
+    products = sp_fft.irfft(sp_fft.rfft(left, nfft) * sp_fft.rfft(right, nfft), nfft)
+    np.maximum(products, 0.0, out=products)
+    return [
+        _trim(a[0] + b[0], products[i, : len(a[1]) + len(b[1]) - 1])
+        for i, (a, b) in enumerate(batch)
+    ]
 
 
 def _merge(a: Lattice, b: Lattice) -> Lattice:
