@@ -271,6 +271,8 @@ class Triangular(Continuous):
         if m >= 1:
             return super()._stop_loss_std(y)
         upper = (1 - np.clip(y, m, 1.0)) ** 3 / (3 * (1 - m))
+        if np.min(y, initial=m) >= m:  # the usual call: only points right of the mode
+            return upper
         return np.where(y >= m, upper, super()._stop_loss_std(y))
 
     def _pdf_std(self, y):
