@@ -15,6 +15,7 @@ Rules (also in the user documentation):
 - A lone dash (`-`, `–`, `—`) is "not given" in optional columns (Distribution, Low %, High %,
   Probability, Group, Shape). In an amount column it is refused: accounting formats show 0 as a
   dash, so it may mean 0 or "not given", and guessing either could change the total.
+- Amounts beyond ±1e15 (`fileio.safety.MAX_MAGNITUDE`) are refused: their moments overflow.
 """
 
 from __future__ import annotations
@@ -23,6 +24,7 @@ import re
 import unicodedata
 
 from engine import FAMILIES
+from fileio.safety import MAX_MAGNITUDE
 
 
 class CellError(ValueError):
@@ -95,8 +97,13 @@ def parse_number(text: str, *, decimal: str | None = None) -> float:
             f"{text.strip()!r}: 'm' could mean milli, metre or million.",
             "write M for million or k for thousand, or type the full number.",
         )
-    value = _digits(s, decimal, text)
-    return -value * scale if negative else value * scale
+    value = _digits(s, decimal, text) * scale
+    if not value <= MAX_MAGNITUDE:  # also catches inf: `1e999` reads as a float
+        raise CellError(
+            f"{text.strip()!r} is beyond ±{MAX_MAGNITUDE:g}, too large to total reliably.",
+            "check the unit (thousands or millions?) and enter a smaller number.",
+        )
+    return -value if negative else value
 
 
 def parse_probability(

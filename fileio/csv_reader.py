@@ -10,11 +10,12 @@ import re
 from collections import Counter
 from pathlib import Path
 
+from fileio.safety import UnsafeFile, bounded_grid, check_file_size, check_no_nul
 from fileio.table import Table
 
-DELIMITERS = ("\t", ";", ",")  # order breaks ties: the rarer delimiter is the likelier intent
+DELIMITERS = ("\t", "|", ";", ",")  # order breaks ties: the rarer delimiter is the likelier intent
 _SNIFF_LINES = 100
-_DELIMITER_NAMES = {"\t": "tab", ";": "semicolon", ",": "comma"}
+_DELIMITER_NAMES = {"\t": "tab", "|": "pipe", ";": "semicolon", ",": "comma"}
 # Cells that show which decimal mark the file uses: `12,5` or `1.234,56` versus `12.5` or
 # `1,234.56`; a lone `12,500` or `12.500` proves nothing.
 _DECIMAL_COMMA = re.compile(r"^[^\d]*\d+,(\d{1,2}|\d{4,})\D*$|\d\.\d{3},\d")
@@ -23,10 +24,23 @@ _DECIMAL_POINT = re.compile(r"^[^\d]*\d+\.(\d{1,2}|\d{4,})\D*$|\d,\d{3}\.\d")
 
 
 def read_csv_table(path: Path) -> Table:
+    """The file as a grid; an `UnreadableFile` when it is empty, binary, or beyond the limits
+    of `fileio.safety` (checked record by record, so a huge file stops at the limit)."""
+    check_file_size(path)
     text, encoding = decode(path.read_bytes())
+    check_no_nul(text, path)
     delimiter = sniff_delimiter(text)
-    rows = list(csv.reader(io.StringIO(text, newline=""), delimiter=delimiter))
-    grid = [[cell.strip() for cell in row] for row in rows]
+    try:
+        reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+        records = ((n, [cell.strip() for cell in row]) for n, row in enumerate(reader, start=1))
+        grid = bounded_grid(records, path.name)
+    except csv.Error as why:
+        # The one error csv raises on decoded text: a cell longer than its field size limit.
+        raise UnsafeFile(
+            f"{path.name}, line {reader.line_num:,}: {why}; a cell that long is not part "
+            "of an estimate (an unclosed quote mark?). Close the quotes, or export the "
+            "estimate as CSV again."
+        ) from why
     decimal = guess_decimal_mark(grid, delimiter)
     return Table(
         grid=grid,
@@ -48,6 +62,9 @@ def decode(data: bytes) -> tuple[str, str]:
         return data[len(codecs.BOM_UTF8) :].decode("utf-8"), "utf-8-sig"
     if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
         return data.decode("utf-16"), "utf-16"
+    unmarked = _utf16_without_bom(data)
+    if unmarked:
+        return data.decode(unmarked), unmarked
     for encoding in ("utf-8", "cp1252", "latin-1"):
         try:
             return data.decode(encoding), encoding
@@ -56,12 +73,31 @@ def decode(data: bytes) -> tuple[str, str]:
     raise AssertionError("latin-1 decodes every byte")
 
 
+def _utf16_without_bom(data: bytes) -> str | None:
+    """UTF-16 written without its byte-order mark: text mostly in ASCII then has a NUL in
+    every other byte. Anything else with NULs is left for `check_no_nul` to refuse."""
+    if len(data) < 2 or len(data) % 2 or b"\x00" not in data:
+        return None
+    for encoding, high_bytes in (("utf-16-le", data[1::2]), ("utf-16-be", data[0::2])):
+        if high_bytes.count(0) > 0.5 * len(high_bytes):
+            try:
+                data.decode(encoding)
+            except UnicodeDecodeError:
+                continue
+            return encoding
+    return None
+
+
 def sniff_delimiter(text: str) -> str:
     """The delimiter that splits the most lines into the same number (at least two) of fields."""
     sample = "\n".join(text.splitlines()[:_SNIFF_LINES])
     best, best_score = ",", -1
     for delimiter in DELIMITERS:
-        counts = [len(r) for r in csv.reader(io.StringIO(sample), delimiter=delimiter) if any(r)]
+        try:
+            rows = list(csv.reader(io.StringIO(sample), delimiter=delimiter))
+        except csv.Error:  # a line too long to be one field: not this delimiter
+            continue
+        counts = [len(r) for r in rows if any(r)]
         widths = Counter(c for c in counts if c >= 2)
         if not widths:
             continue

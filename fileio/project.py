@@ -24,6 +24,7 @@ from engine import (
 )
 from engine.validation import item_problems
 from fileio.atomic import write_atomic
+from fileio.safety import MAX_MAGNITUDE, UnreadableFile, check_file_size, one_line
 
 PROJECT_SUFFIX = ".rangefold"
 FORMAT_NAME = "rangefold-project"
@@ -50,7 +51,7 @@ _OPTIONAL_NUMBERS = ("low", "most_likely", "high", "low_pct", "high_pct")
 _NON_FINITE = {"inf": math.inf, "-inf": -math.inf, "nan": math.nan}
 
 
-class ProjectError(ValueError):
+class ProjectError(UnreadableFile):
     """The file cannot be opened as a Rangefold project; the message says why and what to do."""
 
 
@@ -170,10 +171,22 @@ def _number_in(value: Any) -> float:
     raise ValueError
 
 
+def _too_large(number: float) -> bool:
+    """Finite but beyond the magnitude the engine totals reliably (inf and nan are left to the
+    engine's validation, which names them)."""
+    return math.isfinite(number) and abs(number) > MAX_MAGNITUDE
+
+
 def _read_document(path: Path) -> dict[str, Any]:
+    check_file_size(path)
     try:
         text = path.read_bytes().decode("utf-8")
         document = json.loads(text)
+    except RecursionError as why:
+        raise ProjectError(
+            f"{path.name} nests lists or tables too deeply to be a Rangefold project file; "
+            f"the file is damaged. Open the backup {path.name}.bak."
+        ) from why
     except UnicodeDecodeError as why:
         raise ProjectError(
             f"{path.name} is not a Rangefold project file (not UTF-8 text)."
@@ -183,6 +196,11 @@ def _read_document(path: Path) -> dict[str, Any]:
             f"{path.name} is not a readable Rangefold project file: {why.msg} at line "
             f"{why.lineno}, column {why.colno}. If it was edited by hand, undo the edit or "
             f"open the backup {path.name}.bak."
+        ) from why
+    except ValueError as why:  # e.g. an integer of thousands of digits
+        raise ProjectError(
+            f"{path.name} is not a readable Rangefold project file ({one_line(why, 120)}). "
+            f"Open the backup {path.name}.bak."
         ) from why
     if not isinstance(document, dict) or document.get("format") != FORMAT_NAME:
         raise ProjectError(
@@ -253,14 +271,24 @@ def _item_from(data: Any, number: int) -> LineItem:
         if value is None:
             continue  # the LineItem default (probability 1, shape 4)
         try:
-            fields_in[key] = _number_in(value)
+            number = _number_in(value)
         except ValueError:
             bad(key, value, "a number")
+            continue
+        if _too_large(number):
+            bad(key, value, f"a number within ±{MAX_MAGNITUDE:g}")
+        else:
+            fields_in[key] = number
     values = data.get("values", [])
     try:
-        fields_in["values"] = tuple((_number_in(v), _number_in(w)) for v, w in values)
+        pairs = tuple((_number_in(v), _number_in(w)) for v, w in values)
     except (TypeError, ValueError):
         bad("values", values, "a list of [value, chance] pairs")
+    else:
+        if any(_too_large(v) for v, _ in pairs):
+            bad("values", values, f"values within ±{MAX_MAGNITUDE:g}")
+        else:
+            fields_in["values"] = pairs
     row = data.get("row")
     if row is None or (isinstance(row, int) and not isinstance(row, bool)):
         fields_in["row"] = row

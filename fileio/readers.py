@@ -14,6 +14,7 @@ from fileio.headers import (
     guess_mapping,
     unique_headers,
 )
+from fileio.safety import UnreadableFile
 from fileio.table import Table, estimate_from_table
 from fileio.xlsx_reader import read_workbook
 
@@ -95,11 +96,11 @@ def _csv_table(path: Path) -> Table:
     if suffix in CSV_SUFFIXES:
         return read_csv_table(path)
     if suffix == ".xls":
-        raise ValueError(
+        raise UnreadableFile(
             f"{path.name} is an old-style .xls workbook, which Rangefold does not read. "
             "Save it as .xlsx (or .csv) from your spreadsheet program."
         )
-    raise ValueError(
+    raise UnreadableFile(
         f"{path.name}: Rangefold reads {', '.join(CSV_SUFFIXES + WORKBOOK_SUFFIXES)} and "
         ".rangefold files. Save the estimate in one of these formats."
     )

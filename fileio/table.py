@@ -23,6 +23,7 @@ from fileio.headers import (
     says_percent,
 )
 from fileio.rows import is_totals_name, item_from_cells
+from fileio.safety import UnreadableFile
 
 # Columns whose merged cells mean "the same for every row" (a group label down a section);
 # anywhere else a merged cell hides a value the rows below it lack.
@@ -51,11 +52,11 @@ class Table:
             return found
         where = f"sheet {self.sheet!r} of {self.source}" if self.sheet else self.source
         if mapping:
-            raise ValueError(
+            raise UnreadableFile(
                 f"no row in the first {HEADER_SEARCH_ROWS} rows of {where} has the headers "
                 f"the mapping names ({', '.join(h for h in mapping.values() if h)})."
             )
-        raise ValueError(
+        raise UnreadableFile(
             f"no header row found in the first {HEADER_SEARCH_ROWS} rows of {where}: expected a "
             "row naming an Item (or Description) column and Low, Most likely or High columns. "
             "Rename the headers, or choose the columns in the import dialog."

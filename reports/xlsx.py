@@ -7,6 +7,7 @@ from typing import Any, BinaryIO
 
 from openpyxl import Workbook
 from openpyxl.cell import Cell
+from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 from openpyxl.chart import BarChart, Reference, ScatterChart, Series
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
@@ -29,12 +30,15 @@ BOLD = Font(bold=True)
 
 
 def put(sheet: Worksheet, row: int, column: int, value: Any, kind: Kind = "text") -> Cell:
-    """Write one cell: numbers as numbers with a format, text always as text."""
+    """Write one cell: numbers as numbers with a format, text always as text (formula-like
+    text is stored as a string with a quote prefix, so it never runs)."""
     cell = sheet.cell(row=row, column=column)
     if value is None:
         return cell
     if isinstance(value, str):
-        cell.value = value
+        # Control characters cannot be stored in a workbook's XML at all (openpyxl refuses
+        # them); U+FFFD shows where one was instead of failing the whole report.
+        cell.value = ILLEGAL_CHARACTERS_RE.sub("\ufffd", value)
         if value.startswith(FORMULA_STARTS):
             cell.data_type = "s"
             cell.quotePrefix = True
