@@ -26,6 +26,9 @@ import unicodedata
 from engine import FAMILIES
 from fileio.safety import MAX_MAGNITUDE
 
+# Characters a spreadsheet reads as the start of a formula or a control sequence.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
 
 class CellError(ValueError):
     """A cell that cannot be read; `message` says why, `fix` what to type instead."""

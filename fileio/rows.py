@@ -13,6 +13,7 @@ from collections.abc import Callable, Collection, Mapping
 
 from engine import LineItem, Problem
 from fileio.cells import (
+    FORMULA_STARTS,
     CellError,
     is_blank,
     is_dash,
@@ -48,7 +49,7 @@ def item_from_cells(
     saved result (its text is the formula); `cell_names` gives each column's cell reference,
     e.g. {"Low": "C5"}, for messages.
     """
-    name = cells.get("Item", "").strip()
+    name = unquote_formula_text(cells.get("Item", "").strip())
     raw: dict[str, str] = {}
     problems: list[Problem] = []
 
@@ -113,7 +114,7 @@ def item_from_cells(
         lambda v: parse_probability(v, percent_header=percent_probability, decimal=decimal),
     )
     shape = read("Shape", lambda v: parse_number(v, decimal=decimal))
-    group = read("Group", str) or ""
+    group = unquote_formula_text(read("Group", str) or "")
     return LineItem(
         name=name,
         family=family,
@@ -130,6 +131,12 @@ def item_from_cells(
         raw=raw,
         read_problems=tuple(problems),
     )
+
+
+def unquote_formula_text(text: str) -> str:
+    """Drop the apostrophe an export puts before text that a spreadsheet would run as a
+    formula ('=X' -> '=X' shown as text), so an exported estimate reads back as it was."""
+    return text[1:] if text.startswith("'") and text[1:].startswith(FORMULA_STARTS) else text
 
 
 def _implied_family(cells: Mapping[str, str], ml_text: str, text: Callable[[str], str]) -> str:

@@ -10,8 +10,8 @@ import io
 from pathlib import Path
 
 from engine import Estimate, LineItem
+from fileio.cells import FORMULA_STARTS
 from reports.content import discrete_text
-from reports.xlsx import FORMULA_STARTS
 
 CSV_COLUMNS = (
     "Item",

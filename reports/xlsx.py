@@ -14,11 +14,10 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
 from engine import Analysis, Estimate
+from fileio.cells import FORMULA_STARTS
 from reports import content
 from reports.content import Kind, Table
 
-# Characters a spreadsheet reads as the start of a formula or a control sequence.
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 FORMATS: dict[Kind, str] = {
     "money": "#,##0",
     "percent": "0.0%",

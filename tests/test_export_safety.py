@@ -11,10 +11,10 @@ import pytest
 from openpyxl import load_workbook
 
 from engine import Estimate, LineItem, Settings, analyze
+from fileio.cells import FORMULA_STARTS
 from fileio.readers import read_estimate
 from reports import write_report
 from reports.csv_items import CSV_COLUMNS, write_items_csv
-from reports.xlsx import FORMULA_STARTS
 
 HOSTILE = [
     '=HYPERLINK("http://example.invalid","open")',
@@ -103,3 +103,12 @@ def test_csv_export_imports_back(tmp_path):
     )
     assert roofing.shape == 3.0
     assert piling.raw == {"Most likely": "about 20"} and piling.read_problems
+
+
+def test_formula_like_names_survive_export_and_import(tmp_path):
+    """The apostrophe that neutralises '=Q3 allowance' in the CSV is dropped on import."""
+    estimate = Estimate(
+        items=[LineItem("=Q3 allowance", "fixed", None, 100.0, None, group="@site")]
+    )
+    back = read_estimate(write_items_csv(tmp_path / "items.csv", estimate))
+    assert (back.items[0].name, back.items[0].group) == ("=Q3 allowance", "@site")
