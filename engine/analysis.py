@@ -322,13 +322,7 @@ def simulate_correlated(
     sds = np.array([d.sd for d in dists])
     deviation, worst = achieved_against(aims, stats.achieved)
     dependence = Dependence(
-        names=aims.names,
-        target=aims.target,
-        used=aims.used,
-        repaired=aims.repaired,
-        largest_change=aims.largest_change,
-        pearson_used=aims.pearson_used,
-        pearson_repaired=aims.pearson_repaired,
+        **vars(aims),
         achieved=stats.achieved,
         achieved_max_deviation=deviation,
         worst_achieved=worst,

@@ -295,7 +295,7 @@ def _jsonable(matrix: np.ndarray) -> list[list[float]]:
 
 
 @dataclass(frozen=True)
-class Dependence:
+class Dependence(Targets):
     """What the analysis did with the stated correlations, and what it achieved.
 
     `achieved` is the rank correlation of the items' scores, averaged over the replicates:
@@ -303,13 +303,6 @@ class Dependence:
     items) tie on their values, so the rank correlation of their values is lower.
     """
 
-    names: list[str]
-    target: np.ndarray
-    used: np.ndarray
-    repaired: bool
-    largest_change: tuple[str, str, float, float] | None
-    pearson_used: np.ndarray
-    pearson_repaired: bool
     achieved: np.ndarray
     achieved_max_deviation: float
     worst_achieved: tuple[str, str, float, float] | None  # a, b, aimed at, achieved

@@ -9,22 +9,12 @@ import csv
 import io
 from pathlib import Path
 
-from engine import Estimate, LineItem
+from engine import COLUMNS, Estimate, LineItem
 from fileio.cells import FORMULA_STARTS
 from reports.content import discrete_text
 
-CSV_COLUMNS = (
-    "Item",
-    "Distribution",
-    "Low",
-    "Most likely",
-    "High",
-    "Low %",
-    "High %",
-    "Probability",
-    "Group",
-    "PERT shape",  # the importer reads a bare "Shape" header as the distribution's name
-)
+# The importer's columns; "PERT shape" because a bare "Shape" header reads as the family.
+CSV_COLUMNS = (*COLUMNS, "PERT shape")
 
 
 def neutralise(text: str) -> str:
