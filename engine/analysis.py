@@ -270,6 +270,8 @@ def analyze(
 
 def correlated_pairs(estimate: Estimate) -> int:
     """How many pairs of items have a non-zero stated coefficient."""
+    if estimate.correlation.is_independent:
+        return 0  # no n x n matrix for the common case: it is 800 MB at 10,000 items
     _, matrix = build_matrix(estimate)
     return int(np.count_nonzero(np.triu(matrix, k=1)))
 

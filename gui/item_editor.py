@@ -1,4 +1,5 @@
-"""Every change to the items as an undoable step: edits, pastes, imports, row operations.
+"""Every change to the items and to their stated correlations as an undoable step: edits,
+pastes, imports, row operations.
 
 Owns the model and the undo stack; the table view and the menus call these methods, so
 there is one way in for a change and each change is one undo step.
@@ -8,7 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from PySide6.QtCore import QObject
+from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
 from engine import Estimate, LineItem
@@ -21,11 +22,15 @@ from gui.commands import (
     duplicate_rows,
     move_rows,
 )
+from gui.correlation_commands import ReplaceCorrelation
 from gui.item_model import ItemTableModel, item_from_text
-from gui.undo import ItemsUndoCommand
+from gui.undo import CorrelationUndoCommand, ItemsUndoCommand
 
 
 class ItemEditor(QObject):
+    # Emitted after the stated correlations change (an edit, its undo or redo).
+    correlation_changed = Signal()
+
     def __init__(self, estimate: Estimate | None = None, parent: QObject | None = None):
         super().__init__(parent)
         self.model = ItemTableModel(estimate, self)
@@ -40,6 +45,17 @@ class ItemEditor(QObject):
 
     def _push(self, command: Command, text: str, cell: tuple[int, int] | None = None) -> None:
         self.undo_stack.push(ItemsUndoCommand(self.model, command, text, cell))
+
+    def change_correlation(
+        self, command: ReplaceCorrelation, text: str, merge_key: object = None
+    ) -> None:
+        """A correlation edit as one undo step on the same stack as the item edits."""
+        self.undo_stack.push(CorrelationUndoCommand(self, command, text, merge_key))
+
+    def execute_correlation(self, command: ReplaceCorrelation) -> ReplaceCorrelation:
+        inverse = command.apply(self.model.estimate)
+        self.correlation_changed.emit()
+        return inverse
 
     def _edit(self, row: int, column: int, item: LineItem) -> None:
         self._push(ReplaceItems(((row, item),)), f"edit row {row + 1}", (row, column))

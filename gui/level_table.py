@@ -1,7 +1,6 @@
 """The confidence-level table: the total beside each shortcut, the gap and the contingency.
 
-Columns for simulation error and for correlation appear only when the analysis has them;
-correlation fields are read with getattr so the table works before the engine has them.
+Columns for simulation error and for correlation appear only when the analysis has them.
 """
 
 from __future__ import annotations
@@ -62,14 +61,14 @@ SIMULATION_COLUMN: Column = (
 )
 DEPENDENT_COLUMNS: tuple[Column, ...] = (
     (
-        "Normal, correlated",
-        lambda r: _money(getattr(r, "normal_dependent", None)),
-        "normal shortcut with the stated correlations in its variance",
+        "Normal with correlation",
+        lambda r: _money(r.normal_dependent),
+        "normal shortcut with the stated correlations in its variance (covariances added)",
     ),
     (
         "If independent",
-        lambda r: _money(getattr(r, "independent_value", None)),
-        "the same estimate with every correlation set to 0",
+        lambda r: _money(r.independent_value),
+        "the total of the same items with every correlation set to 0 (exact convolution)",
     ),
 )
 

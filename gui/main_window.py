@@ -6,6 +6,7 @@ items themselves live in the ItemEditor's model, the figures come from the Recom
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 from PySide6.QtCore import QSettings, QStandardPaths, Qt, QTimer, Signal
@@ -46,6 +47,8 @@ REPORT_FILTERS = {
 RECENT_LIMIT = 8
 AUTOSAVE_MS = 60_000
 AUTOSAVE_AFTER_EDIT_MS = 2_000
+# Where autosaved work goes; tests and managed installations point it elsewhere.
+RECOVERY_DIR_VARIABLE = "RANGEFOLD_RECOVERY_DIR"
 
 
 def caution_text() -> str:
@@ -55,6 +58,9 @@ def caution_text() -> str:
 
 
 def default_recovery_dir() -> Path:
+    chosen = os.environ.get(RECOVERY_DIR_VARIABLE, "").strip()
+    if chosen:
+        return Path(chosen)
     base = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
     return Path(base) / "recovery"
 
@@ -86,6 +92,7 @@ class MainWindow(QMainWindow):
         self.results = ResultsPanel()
         self.settings_panel = SettingsPanel()
         self.recomputer = Recomputer(parent=self)
+        self.correlation_dialog = None  # made when first opened
 
         self._build_layout()
         self._build_status_bar()
@@ -114,6 +121,7 @@ class MainWindow(QMainWindow):
             ("delete", "Delete", "Delete the selected rows (Del)"),
             ("up", "↑ Up", "Move the selected rows up"),
             ("down", "↓ Down", "Move the selected rows down"),
+            ("correlations", "Correlations…", "State which items move together (Ctrl+K)"),
         ):
             button = QToolButton(text=label, toolTip=tip, objectName=f"row-{key}")
             button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
@@ -264,6 +272,7 @@ class MainWindow(QMainWindow):
         buttons["delete"].clicked.connect(self.table.delete_rows)
         buttons["up"].clicked.connect(lambda: self.table.move_rows(-1))
         buttons["down"].clicked.connect(lambda: self.table.move_rows(1))
+        buttons["correlations"].clicked.connect(self.open_correlations)
 
         view_menu = menus.addMenu("&View")
         settings_toggle = self.settings_dock.toggleViewAction()
@@ -271,6 +280,13 @@ class MainWindow(QMainWindow):
         settings_toggle.setShortcut(QKeySequence("Ctrl+,"))
         view_menu.addAction(settings_toggle)
         self._action("&Recompute now", self.recompute_now, "F5", view_menu)
+        self._action(
+            "&Correlations between items…",
+            self.open_correlations,
+            "Ctrl+K",
+            rows_menu,
+            "Pairs, groups and a default coefficient for items that move together",
+        )
         self._update_recent_menu()
 
     def _connect(self) -> None:
@@ -285,6 +301,10 @@ class MainWindow(QMainWindow):
         self.recomputer.failed.connect(self._compute_failed)
         self.recomputer.cancelled.connect(self._compute_cancelled)
         self.cancel_button.clicked.connect(self.recomputer.cancel)
+        self.editor.correlation_changed.connect(self._correlation_changed)
+        self.recomputer.repair_needed.connect(self._repair_needed)
+        self.results.repair.accept_requested.connect(self.accept_repair)
+        self.results.repair.fix_requested.connect(self._fix_correlations)
 
     # --- the document -------------------------------------------------------------------
     @property
@@ -306,6 +326,7 @@ class MainWindow(QMainWindow):
         self._settings_dirty = False
         self.settings_panel.set_settings(settings)
         self.editor.set_estimate(estimate)
+        self._update_correlation_button()
         if self.model.rowCount():
             self.table.select_rows([0])
         self._update_title()
@@ -488,6 +509,48 @@ class MainWindow(QMainWindow):
         self._autosave_soon.start()
         self.schedule_recompute()
 
+    def _correlation_changed(self) -> None:
+        self._update_title()
+        self._update_correlation_button()
+        self._autosave_soon.start()
+        self.schedule_recompute()
+
+    def _update_correlation_button(self) -> None:
+        spec = self.estimate.correlation
+        stated = len(spec.pairs) + sum(1 for c in spec.groups.values() if c) + bool(spec.default)
+        self.row_buttons["correlations"].setText(
+            f"Correlations ({stated})…" if stated else "Correlations…"
+        )
+
+    def open_correlations(self):
+        """Show the correlation editor (non-modal, beside the estimate)."""
+        if self.correlation_dialog is None:
+            from gui.correlation_panel import CorrelationDialog
+
+            self.correlation_dialog = CorrelationDialog(self.editor, self)
+            panel = self.correlation_dialog.panel
+            panel.message.connect(lambda text: self.statusBar().showMessage(text, 10_000))
+            panel.show_repair(self.results.repair.preview)
+        self.correlation_dialog.show()
+        self.correlation_dialog.raise_()
+        self.correlation_dialog.activateWindow()
+        return self.correlation_dialog
+
+    def accept_repair(self) -> None:
+        from gui.correlation_commands import set_accept_repair
+
+        self.editor.change_correlation(
+            set_accept_repair(self.estimate.correlation, True), "accept the correlation repair"
+        )
+
+    def _fix_correlations(self, item_a: str, item_b: str) -> None:
+        self.open_correlations().panel.select_pair(item_a, item_b)
+
+    def _repair_needed(self, preview) -> None:
+        self.results.repair.show_preview(preview)
+        if self.correlation_dialog is not None:
+            self.correlation_dialog.panel.show_repair(preview)
+
     def _settings_changed(self, settings: Settings) -> None:
         self._settings_dirty = True
         self._update_title()
@@ -539,7 +602,8 @@ class MainWindow(QMainWindow):
         self.schedule_recompute(now=True)
 
     def _compute_started(self, _request_id: int) -> None:
-        self.compute_label.setText("Computing…")
+        count = len(self.model.items)
+        self.compute_label.setText(f"Computing the total of {count:,} item(s)…")
         self.progress.setValue(0)
         self.progress.show()
         self.cancel_button.show()
@@ -561,6 +625,8 @@ class MainWindow(QMainWindow):
             [f"{left_out} row(s) left out of the total: fix the marked cells."] if left_out else []
         )
         self.results.show_analysis(analysis, outcome.settings.unit, notices)
+        if self.correlation_dialog is not None:
+            self.correlation_dialog.panel.show_repair(None)
         self.compute_label.setText(compute_text(analysis))
         self.result_shown.emit()
 
@@ -672,4 +738,6 @@ def compute_text(analysis) -> str:
         text = f"Simulation · {analysis.trials:,} trials · {sampling} · seed {analysis.seed}"
     else:
         text = "Exact convolution"
+    if analysis.dependence is not None and analysis.dependence.repaired:
+        text += " · correlation repair in force"
     return f"{text} · {analysis.compute_seconds:.2f} s"

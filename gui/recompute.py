@@ -31,7 +31,7 @@ class Outcome:
 class _JobSignals(QObject):
     # Created on the GUI thread, emitted from the worker: Qt queues them to the GUI thread.
     finished = Signal(int, object)
-    failed = Signal(int, str)
+    failed = Signal(int, str, object)  # message, RepairPreview or None
     cancelled = Signal(int)
     progress = Signal(int, float)
 
@@ -51,6 +51,19 @@ class _AnalysisJob(QRunnable):
             self._reported = fraction
             self.signals.progress.emit(self.request_id, fraction)
 
+    def _repair_preview(self):
+        """What repairing the stated matrix would change, found here, off the GUI thread,
+        because for a large estimate the check is an eigen-decomposition of seconds."""
+        spec = self.estimate.correlation
+        if spec.is_independent or spec.accept_repair:
+            return None
+        from engine.correlation import repair_preview
+
+        try:
+            return repair_preview(self.estimate)
+        except (ValueError, ArithmeticError):  # the failure message already says what is wrong
+            return None
+
     def run(self) -> None:
         try:
             analysis = analyze(
@@ -62,9 +75,10 @@ class _AnalysisJob(QRunnable):
         except Cancelled:
             self.signals.cancelled.emit(self.request_id)
         except InputError as bad:
-            self.signals.failed.emit(self.request_id, "\n".join(str(p) for p in bad.problems))
+            message = "\n".join(str(p) for p in bad.problems)
+            self.signals.failed.emit(self.request_id, message, self._repair_preview())
         except Exception as bad:  # a worker must report, never die silently
-            self.signals.failed.emit(self.request_id, f"{type(bad).__name__}: {bad}")
+            self.signals.failed.emit(self.request_id, f"{type(bad).__name__}: {bad}", None)
         else:
             self.signals.finished.emit(
                 self.request_id, Outcome(self.request_id, self.estimate, self.settings, analysis)
@@ -75,6 +89,8 @@ class Recomputer(QObject):
     started = Signal(int)
     finished = Signal(object)  # Outcome
     failed = Signal(str)
+    # Before each failure: the repair the stated correlations would need, or None.
+    repair_needed = Signal(object)
     cancelled = Signal()
     progress = Signal(float)
 
@@ -141,8 +157,9 @@ class Recomputer(QObject):
         if self._current(request_id):
             self.finished.emit(outcome)
 
-    def _on_failed(self, request_id: int, message: str) -> None:
+    def _on_failed(self, request_id: int, message: str, preview: object) -> None:
         if self._current(request_id):
+            self.repair_needed.emit(preview)
             self.failed.emit(message)
 
     def _on_cancelled(self, request_id: int) -> None:

@@ -6,11 +6,25 @@ shown, because a burst of edits should not pay for four figures each time.
 
 from __future__ import annotations
 
-from PySide6.QtWidgets import QLabel, QTabWidget, QVBoxLayout, QWidget
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QHeaderView,
+    QLabel,
+    QTableWidget,
+    QTableWidgetItem,
+    QTabWidget,
+    QVBoxLayout,
+    QWidget,
+)
 
 from engine import Analysis
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
+from gui.repair_notice import RepairNotice
+
+LINKS_SHOWN = 25
+LINKS_TAB = "Links"
 
 
 def _chart_functions():
@@ -26,26 +40,63 @@ def _chart_functions():
     )
 
 
-def dependence_text(analysis: Analysis) -> str:
-    """What the correlation did to the matrix, when the analysis carries one."""
-    dependence = getattr(analysis, "dependence", None)
+def dependence_text(analysis: Analysis, unit: str = "") -> str:
+    """What the correlation did: the repair in force, if any, and the headline level with
+    and without the stated correlations."""
+    dependence = analysis.dependence
     if dependence is None:
         return ""
-    names = getattr(dependence, "names", [])
-    text = f"Correlation between {len(names)} items is included."
-    if getattr(dependence, "repaired", False):
-        change = getattr(dependence, "largest_change", None)
-        text += " The stated coefficients were not a valid correlation matrix and were repaired"
-        if change:
-            a, b, old, new = change
-            text += f"; the largest change is {a} / {b}: {old:+.2f} → {new:+.2f}"
-        text += "."
-    deviation = getattr(dependence, "achieved_max_deviation", None)
-    if deviation is not None:
+    text = f"Correlation between {len(dependence.names):,} items is included."
+    if dependence.repaired:
         text += (
-            f" Largest difference between stated and achieved rank correlation: {deviation:.3f}."
+            " REPAIR IN FORCE: the stated coefficients contradict each other, so these "
+            "figures use the nearest valid correlation matrix you accepted"
         )
+        if dependence.largest_change:
+            a, b, old, new = dependence.largest_change
+            text += f" (largest change: {a} / {b}, {old:+.2f} → {new:+.2f})"
+        text += "."
+    row = headline_row(analysis)
+    if row is not None and row.independent_value is not None:
+        suffix = f" {unit}" if unit else ""
+        text += (
+            f" P{row.level:g} is {row.value:,.0f}{suffix} with correlation, "
+            f"{row.independent_value:,.0f}{suffix} if independent; the normal shortcut with "
+            f"correlation gives {row.normal_dependent:,.0f}{suffix}."
+        )
+    text += (
+        " Largest difference between stated and achieved rank correlation: "
+        f"{dependence.achieved_max_deviation:.3f}."
+    )
     return text
+
+
+def headline_row(analysis: Analysis):
+    """P80 when asked for (the usual funding level), else the highest level."""
+    rows = analysis.levels
+    if not rows:
+        return None
+    return next((r for r in rows if r.level == 80), rows[-1])
+
+
+def fill_links(table: QTableWidget, analysis: Analysis) -> bool:
+    """Each item's rank correlation with the total, strongest first; False when the analysis
+    has none (independent items computed exactly)."""
+    linked = [d for d in analysis.drivers if d.rank_correlation_with_total is not None]
+    linked.sort(key=lambda d: -abs(d.rank_correlation_with_total))
+    table.setRowCount(len(linked[:LINKS_SHOWN]))
+    for r, driver in enumerate(linked[:LINKS_SHOWN]):
+        cells = (
+            driver.name,
+            f"{driver.rank_correlation_with_total:+.2f}",
+            f"{100 * driver.variance_share:.1f}%",
+        )
+        for c, text in enumerate(cells):
+            cell = QTableWidgetItem(text)
+            if c:
+                cell.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            table.setItem(r, c, cell)
+    return bool(linked)
 
 
 class ResultsPanel(QWidget):
@@ -67,13 +118,33 @@ class ResultsPanel(QWidget):
             canvas = ChartCanvas()
             self.canvases.append(canvas)
             self.tabs.addTab(canvas, title)
+        # The drivers chart has no rank-correlation bars, so a simulated total lists each
+        # item's rank correlation with it here.
+        self.links = QTableWidget(0, 3, objectName="links")
+        self.links.setHorizontalHeaderLabels(
+            ["Item", "Rank correlation with the total", "Share of variance"]
+        )
+        self.links.verticalHeader().setVisible(False)
+        self.links.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.links.horizontalHeader().setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        self.links.horizontalHeader().setSectionResizeMode(
+            1, QHeaderView.ResizeMode.ResizeToContents
+        )
+        self.links.horizontalHeader().setSectionResizeMode(
+            2, QHeaderView.ResizeMode.ResizeToContents
+        )
+        self._links_index = self.tabs.addTab(self.links, LINKS_TAB)
+        self.tabs.setTabToolTip(self._links_index, "Each item's rank correlation with the total")
+        self.tabs.setTabVisible(self._links_index, False)
         self.tabs.currentChanged.connect(self._draw_current)
+        self.repair = RepairNotice()
         self.reasons = QLabel(objectName="reasons", wordWrap=True)
         self.reasons.setTextFormat(self.reasons.textFormat().RichText)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 4, 4, 4)
         layout.addWidget(self.summary)
         layout.addWidget(self.notice)
+        layout.addWidget(self.repair)
         layout.addWidget(self.table)
         layout.addWidget(self.tabs, 1)
         # How the figures were made and why the shortcut fails: placed by the window, beside
@@ -94,8 +165,10 @@ class ResultsPanel(QWidget):
         method = f"Method: {analysis.method} — {analysis.method_reason}."
         method += f" Base estimate {analysis.base_estimate:,.0f} ({analysis.base_basis})."
         self.method.setText(method)
-        self.set_notices([*notices, dependence_text(analysis)])
+        self.set_notices([*notices, dependence_text(analysis, unit)])
+        self.repair.show_preview(None)
         self.table.show_analysis(analysis)
+        self.tabs.setTabVisible(self._links_index, fill_links(self.links, analysis))
         self.table.show()
         reasons = "".join(f"<li>{_escape(r)}</li>" for r in analysis.reasons)
         self.reasons.setText(
@@ -113,6 +186,7 @@ class ResultsPanel(QWidget):
         self.method.setText(message)
         self.set_notices(list(notices))
         self.table.hide()
+        self.tabs.setTabVisible(self._links_index, False)
         self.reasons.setText("")
         for canvas in self.canvases:
             canvas.show_message("Nothing to show until the estimate can be computed.")
@@ -123,7 +197,7 @@ class ResultsPanel(QWidget):
         self.notice.setVisible(bool(shown))
 
     def _draw_current(self, index: int) -> None:
-        if self.analysis is None or index < 0 or not self._stale[index]:
+        if self.analysis is None or not 0 <= index < len(self.canvases) or not self._stale[index]:
             return
         _, draw, takes_unit = self._charts[index]
         if takes_unit:

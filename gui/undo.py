@@ -1,10 +1,12 @@
-"""QUndoCommand around gui.commands: Qt only labels, stacks and merges them."""
+"""QUndoCommand around gui.commands and gui.correlation_commands: Qt only labels, stacks
+and merges them."""
 
 from __future__ import annotations
 
 from PySide6.QtGui import QUndoCommand
 
 from gui.commands import Command, ReplaceItems
+from gui.correlation_commands import ReplaceCorrelation
 from gui.item_model import ItemTableModel
 
 CELL_EDIT_ID = 1
@@ -44,6 +46,37 @@ class ItemsUndoCommand(QUndoCommand):
         if not isinstance(other, ItemsUndoCommand) or other._cell != self._cell:
             return False
         if not isinstance(other._forward, ReplaceItems):
+            return False
+        self._forward = other._forward
+        return True
+
+
+CORRELATION_EDIT_ID = 2
+
+
+class CorrelationUndoCommand(QUndoCommand):
+    """Runs a correlation command through the editor; successive edits with the same
+    `merge_key` (the default's spin box stepping, one cell retyped) merge into one step."""
+
+    def __init__(self, editor, command: ReplaceCorrelation, text: str, merge_key=None):
+        super().__init__(text)
+        self._editor = editor
+        self._forward = command
+        self._inverse: ReplaceCorrelation | None = None
+        self._key = merge_key
+
+    def redo(self) -> None:
+        self._inverse = self._editor.execute_correlation(self._forward)
+
+    def undo(self) -> None:
+        assert self._inverse is not None
+        self._forward = self._editor.execute_correlation(self._inverse)
+
+    def id(self) -> int:
+        return CORRELATION_EDIT_ID if self._key is not None else -1
+
+    def mergeWith(self, other: QUndoCommand) -> bool:
+        if not isinstance(other, CorrelationUndoCommand) or other._key != self._key:
             return False
         self._forward = other._forward
         return True
