@@ -17,6 +17,12 @@ def no_display() -> bool:
     return not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
 
 
+def _without_offscreen_noise(mode: object, context: object, message: str) -> None:
+    """Qt's messages, less the offscreen platform's note that it cannot pass size hints on."""
+    if "propagateSizeHints" not in message:
+        print(message, file=sys.stderr)
+
+
 def run(path: str | None, screenshot: str | None) -> int:
     """Open the window on `path` (the demo when None); with `screenshot`, save a PNG of the
     window once the first result is shown, and exit."""
@@ -29,11 +35,13 @@ def run(path: str | None, screenshot: str | None) -> int:
             file=sys.stderr,
         )
         return 2
-    from PySide6.QtCore import QTimer
+    from PySide6.QtCore import QTimer, qInstallMessageHandler
     from PySide6.QtWidgets import QApplication
 
     from gui.main_window import MainWindow
 
+    if screenshot:
+        qInstallMessageHandler(_without_offscreen_noise)
     app = QApplication.instance() or QApplication([sys.argv[0] if sys.argv else APPLICATION])
     app.setOrganizationName(ORGANISATION)
     app.setApplicationName(APPLICATION)

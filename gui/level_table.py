@@ -37,12 +37,12 @@ Column = tuple[str, Callable[[LevelRow], str], str]
 BASE_COLUMNS: tuple[Column, ...] = (
     ("Level", lambda r: f"P{r.level:g}", "confidence level"),
     ("Total", lambda r: _money(r.value), "the total at this level, computed from the items"),
+    ("Contingency", lambda r: _money(r.contingency), "total at this level minus base estimate"),
+    ("Cont. %", lambda r: _pct(r.contingency_pct), "contingency as a share of the base estimate"),
     ("Normal", lambda r: _money(r.normal), "sum of means and variances on a normal curve"),
     ("Gap", lambda r: _money(r.gap), "normal shortcut minus the total: negative understates"),
     ("Gap %", lambda r: _pct(r.gap_pct), "gap as a share of the total"),
     ("Verdict", lambda r: VERDICT_LOOK[r.verdict][0], "does the shortcut hold at this level"),
-    ("Contingency", lambda r: _money(r.contingency), "total at this level minus base estimate"),
-    ("Cont. %", lambda r: _pct(r.contingency_pct), "contingency as a share of the base estimate"),
     (
         "Cornish–Fisher",
         lambda r: _money(r.cornish_fisher),

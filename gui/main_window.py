@@ -165,7 +165,7 @@ class MainWindow(QMainWindow):
         self.splitter.addWidget(results_box)
         self.splitter.setStretchFactor(0, 1)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([640, 520])
+        self.splitter.setSizes([540, 620])  # the level table needs the width
 
         self.caution = QLabel(caution_text(), objectName="caution", wordWrap=True)
         self.caution.setStyleSheet("color: #3a4750; font-style: italic; padding: 2px 6px;")
