@@ -7,6 +7,7 @@ items themselves live in the ItemEditor's model, the figures come from the Recom
 from __future__ import annotations
 
 import os
+from dataclasses import replace
 from pathlib import Path
 
 from PySide6.QtCore import QSettings, QStandardPaths, Qt, QTimer, Signal
@@ -558,13 +559,27 @@ class MainWindow(QMainWindow):
         self.schedule_recompute()
         self._show_preview()
 
-    def analysed_estimate(self) -> tuple[Estimate, int]:
-        """The estimate made of the valid rows only, and how many rows were left out."""
+    def analysed_estimate(self) -> tuple[Estimate, int, int]:
+        """The estimate made of the valid rows only, and how many rows and correlation
+        pairs were left out.
+
+        Correlation pairs naming a left-out row are left out with it (and counted in the
+        notice); a pair naming no row at all stays, so the engine flags the misspelt name."""
         full = self.estimate
         valid = self.model.valid_items()
         summary = dict(full.summary)
         left_out = len(full.items) - len(valid)
         summary["drafts"] = left_out
+        drafts = {i.name.strip().casefold() for i in full.items} - {
+            i.name.strip().casefold() for i in valid
+        }
+        pairs = [
+            p
+            for p in full.correlation.pairs
+            if not {p.item_a.strip().casefold(), p.item_b.strip().casefold()} & drafts
+        ]
+        pairs_left_out = len(full.correlation.pairs) - len(pairs)
+        correlation = replace(full.correlation, pairs=pairs) if pairs_left_out else full.correlation
         estimate = Estimate(
             items=valid,
             title=full.title,
@@ -572,14 +587,15 @@ class MainWindow(QMainWindow):
             source=full.source or self.source,
             read_problems=[],
             summary=summary,
-            correlation=full.correlation,
+            correlation=correlation,
         )
-        return estimate, left_out
+        return estimate, left_out, pairs_left_out
 
     def schedule_recompute(self, now: bool = False) -> None:
-        estimate, left_out = self.analysed_estimate()
+        estimate, left_out, pairs_left_out = self.analysed_estimate()
+        pairs = f" with {pairs_left_out} correlation pair(s) naming them" if pairs_left_out else ""
         self.left_out.setText(
-            f"⚠ {left_out} row{'s' if left_out != 1 else ''} left out of the total "
+            f"⚠ {left_out} row{'s' if left_out != 1 else ''}{pairs} left out of the total "
             "(marked cells; hover for the fix)"
         )
         self.left_out.setVisible(left_out > 0)

@@ -298,3 +298,18 @@ def test_correlations_survive_saving_and_opening_the_project(make_window, qtbot,
     reopened = other.open_correlations().panel
     assert reopened.pairs.item(0, 2).text() == "0.35"
     assert reopened.default.value() == pytest.approx(0.2)
+
+
+def test_a_pair_on_a_left_out_row_is_left_out_with_it_and_said(make_window, qtbot):
+    """A row with a problem leaves the total with its correlation pairs; the notice says
+    so, and the total is the valid row's alone (U(0, 100): P80 = 80)."""
+    estimate = two_uniforms()
+    estimate.items[1] = estimate.items[1].with_changes(low=None, raw={"Low": "lots"})
+    estimate.correlation = CorrelationSpec(
+        pairs=[CorrelationPair("Crane hire", "Scaffold rental", 0.5)]
+    )
+    window = make_window()
+    open_estimate(window, qtbot, estimate, simulation())
+    assert "1 row with 1 correlation pair(s) naming them left out" in window.left_out.text()
+    assert window.last_outcome.analysis.dependence is None  # nothing left to correlate
+    assert row_at(window, 80).value == pytest.approx(80.0, rel=1e-3)
