@@ -22,6 +22,7 @@ from scipy import fft as sp_fft
 from scipy import signal
 
 from engine.distributions import Beta, Distribution, Fixed, Triangular, Uniform
+from engine.parallel import run_pair
 from engine.progress import Cancelled, Progress
 from engine.totals import Cumulants, GridTotal, PointTotal, Total
 
@@ -69,15 +70,19 @@ def exact_total(
         return PointTotal(shift)
 
     step = aligned_step(uncertain, cumulants.sd / resolution)
-    span = 1.4 if check_error else 1.0
-    lattices, folded = _item_lattices(uncertain, step, lambda f: progress.report(0.3 * f / span))
-    fine = _convolve_tree(lattices, lambda f: progress.report((0.3 + 0.7 * f) / span))
-    total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
+    lattices, folded = _item_lattices(uncertain, step, lambda f: progress.report(0.3 * f))
+
+    def fine_tree() -> tuple[int, np.ndarray]:
+        return _convolve_tree(list(lattices), lambda f: progress.report(0.3 + 0.7 * f))
+
     if not check_error:
-        return total
-    coarse = _convolve_tree(
-        [coarsen(lat) for lat in lattices], lambda f: progress.report((1 + 0.4 * f) / span)
+        fine = fine_tree()
+        return GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
+    # The check at twice the step is independent of the fine result: the other core does it.
+    fine, coarse = run_pair(
+        fine_tree, lambda: _convolve_tree([coarsen(lat) for lat in lattices], lambda f: None)
     )
+    total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
     coarse_total = GridTotal(shift + coarse[0] * 2 * step, 2 * step, coarse[1], cumulants)
     # Just below whole percentiles: at a point mass's edge the percentile jumps, and a
     # rounding difference between the two grids must not read as an error of the jump's size.

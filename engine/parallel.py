@@ -1,4 +1,4 @@
-"""Per-item work split in two, run on two threads.
+"""Engine work split in two, run on two threads.
 
 numpy releases the GIL in the sampling kernels (random draws, shuffles, ufuncs, sorts), so
 two threads nearly halve a simulation on a two-core machine. The split is fixed, not taken
@@ -14,6 +14,7 @@ from concurrent.futures import ThreadPoolExecutor
 from typing import TypeVar
 
 T = TypeVar("T")
+U = TypeVar("U")
 
 PARTS = 2
 _pool: ThreadPoolExecutor | None = None
@@ -25,16 +26,26 @@ def halves(count: int) -> list[range]:
     return [range(a, b) for a, b in itertools.pairwise(bounds) if b > a]
 
 
+def _shared_pool() -> ThreadPoolExecutor:
+    global _pool
+    if _pool is None:
+        _pool = ThreadPoolExecutor(max_workers=PARTS, thread_name_prefix="rangefold-engine")
+    return _pool
+
+
+def run_pair(first: Callable[[], T], second: Callable[[], U]) -> tuple[T, U]:
+    """first() here and second() on a pool thread, at the same time."""
+    later = _shared_pool().submit(second)
+    return first(), later.result()
+
+
 def run_split(work: Callable[[range], T], count: int) -> list[T]:
     """work(range) for each part of range(count), in parallel; results in part order.
 
     An exception in a part (cancellation included) is raised here once both parts end.
     """
-    global _pool
     parts = halves(count)
     if len(parts) < 2:
         return [work(p) for p in parts]
-    if _pool is None:
-        _pool = ThreadPoolExecutor(max_workers=PARTS, thread_name_prefix="rangefold-sim")
-    futures = [_pool.submit(work, p) for p in parts]
+    futures = [_shared_pool().submit(work, p) for p in parts]
     return [f.result() for f in futures]
