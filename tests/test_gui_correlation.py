@@ -7,6 +7,7 @@ import math
 
 import numpy as np
 import pytest
+from gui_fixtures import two_uniforms
 from scipy import stats
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, Settings
@@ -18,16 +19,6 @@ TIMEOUT_MS = 30_000
 pytestmark = pytest.mark.qt_log_ignore(
     "This plugin does not support propagateSizeHints", "This plugin does not support raise"
 )
-
-
-def two_uniforms() -> Estimate:
-    return Estimate(
-        items=[
-            LineItem("Crane hire", "uniform", 0.0, None, 100.0),
-            LineItem("Scaffold rental", "uniform", 0.0, None, 100.0),
-        ],
-        title="Two uniforms",
-    )
 
 
 def clashing() -> Estimate:

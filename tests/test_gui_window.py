@@ -7,6 +7,7 @@ import math
 from pathlib import Path
 
 import pytest
+from gui_fixtures import two_uniforms
 from PySide6.QtWidgets import QDialogButtonBox, QMessageBox
 
 from engine import Estimate, LineItem, Settings
@@ -16,16 +17,6 @@ from gui.item_text import TABLE_COLUMNS
 TIMEOUT_MS = 30_000
 # The offscreen platform says it cannot pass size hints on to a window manager; harmless.
 pytestmark = pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints")
-
-
-def two_uniforms() -> Estimate:
-    return Estimate(
-        items=[
-            LineItem("Crane hire", "uniform", 0.0, None, 100.0),
-            LineItem("Scaffold rental", "uniform", 0.0, None, 100.0),
-        ],
-        title="Two uniforms",
-    )
 
 
 def exact_settings() -> Settings:
