@@ -36,6 +36,7 @@ from gui.recompute import Outcome, Recomputer
 from gui.recovery import RecoveryStore
 from gui.results_panel import ResultsPanel
 from gui.settings_panel import SettingsPanel
+from gui.undo import SettingsUndoCommand
 
 APP_TITLE = "Rangefold"
 PROJECT_FILTER = "Rangefold project (*.rangefold)"
@@ -92,6 +93,7 @@ class MainWindow(QMainWindow):
         self.preview = ItemPreview()
         self.results = ResultsPanel()
         self.settings_panel = SettingsPanel()
+        self._applied = self.settings_panel.settings  # the settings in force, for undo
         self.recomputer = Recomputer(parent=self)
         self.correlation_dialog = None  # made when first opened
 
@@ -326,6 +328,7 @@ class MainWindow(QMainWindow):
         self.source = source or (str(path) if path else estimate.source)
         self._settings_dirty = False
         self.settings_panel.set_settings(settings)
+        self._applied = settings
         self.editor.set_estimate(estimate)
         self._update_correlation_button()
         if self.model.rowCount():
@@ -553,7 +556,14 @@ class MainWindow(QMainWindow):
             self.correlation_dialog.panel.show_repair(preview)
 
     def _settings_changed(self, settings: Settings) -> None:
+        """A change the user made in the panel: one undo step (merged with the next)."""
         self._settings_dirty = True
+        self.undo_stack.push(SettingsUndoCommand(self._apply_settings, self._applied, settings))
+
+    def _apply_settings(self, settings: Settings) -> None:
+        self._applied = settings
+        if self.settings_panel.settings != settings:
+            self.settings_panel.set_settings(settings)
         self._update_title()
         self._autosave_soon.start()
         self.schedule_recompute()

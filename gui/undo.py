@@ -3,8 +3,11 @@ and merges them."""
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from PySide6.QtGui import QUndoCommand
 
+from engine import Settings
 from gui.commands import Command, ReplaceItems
 from gui.correlation_commands import ReplaceCorrelation
 from gui.item_model import ItemTableModel
@@ -79,4 +82,33 @@ class CorrelationUndoCommand(QUndoCommand):
         if not isinstance(other, CorrelationUndoCommand) or other._key != self._key:
             return False
         self._forward = other._forward
+        return True
+
+
+SETTINGS_EDIT_ID = 3
+
+
+class SettingsUndoCommand(QUndoCommand):
+    """A change of the analysis settings; `apply(settings)` shows and uses them. Successive
+    changes merge into one step, so typing a list of levels undoes as one edit."""
+
+    def __init__(self, apply: Callable[[Settings], None], old: Settings, new: Settings):
+        super().__init__("Change settings")
+        self._apply = apply
+        self._old = old
+        self._new = new
+
+    def redo(self) -> None:
+        self._apply(self._new)
+
+    def undo(self) -> None:
+        self._apply(self._old)
+
+    def id(self) -> int:
+        return SETTINGS_EDIT_ID
+
+    def mergeWith(self, other: QUndoCommand) -> bool:
+        if not isinstance(other, SettingsUndoCommand):
+            return False
+        self._new = other._new
         return True

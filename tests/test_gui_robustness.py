@@ -133,22 +133,35 @@ def test_cancel_stops_a_ten_thousand_item_simulation_mid_run(make_window, qtbot)
     assert not window.progress.isVisible() and not window.cancel_button.isVisible()
 
 
-def test_many_undos_do_not_leak_references_to_none(qtbot):
-    """PySide6 6.12.0 on Python 3.11 loses a reference to None on some virtual calls (one per
-    QUndoCommand.undo, one per processEvents: measured), so a long session aborts with
-    "deallocating None"; pyproject pins PySide6 below 6.12. This catches a binding with the
-    bug, whatever the pin says."""
-    from PySide6.QtWidgets import QApplication
+BINDING_CHECK = """
+import os, sys
+os.environ["QT_QPA_PLATFORM"] = "offscreen"
+from PySide6.QtGui import QUndoCommand, QUndoStack
+from PySide6.QtWidgets import QApplication
+app = QApplication([])
+class Step(QUndoCommand):
+    def redo(self): pass
+    def undo(self): pass
+stack = QUndoStack()
+for _ in range(10):
+    stack.push(Step())
+for _ in range(50):
+    app.processEvents()
+before = sys.getrefcount(None)
+for _ in range(2000):
+    stack.undo(); stack.redo(); app.processEvents()
+print(sys.getrefcount(None) - before)
+"""
 
-    from gui.item_editor import ItemEditor
 
-    editor = ItemEditor(Estimate(items=[LineItem("Fencing", "uniform", 0.0, None, 10.0)]))
-    editor.edit_cell(0, 0, "Site fencing")
-    before = sys.getrefcount(None)
-    for _ in range(2_000):
-        editor.undo_stack.undo()
-        editor.undo_stack.redo()
-        QApplication.processEvents()
-    drift = sys.getrefcount(None) - before
-    assert abs(drift) < 200, f"None's reference count drifted by {drift} over 2,000 undo/redo"
-    assert editor.model.items[0].name == "Site fencing"
+def test_the_qt_binding_keeps_its_references_to_none():
+    """PySide6 6.12.0 on Python 3.11 loses a reference to None on each virtual call such as
+    QUndoCommand.undo and each processEvents (measured: -6,000 here), until a long session
+    aborts with "deallocating None"; pyproject pins PySide6 below 6.12. Nothing else lives
+    in this fresh interpreter, so any steady drift is the binding's (6.11.3: a few)."""
+    out = subprocess.run(
+        [sys.executable, "-c", BINDING_CHECK], capture_output=True, text=True, timeout=120
+    )
+    assert out.returncode == 0, out.stderr
+    drift = int(out.stdout.strip().splitlines()[-1])
+    assert abs(drift) < 100, f"None's reference count drifted by {drift} in 2,000 undo cycles"

@@ -64,6 +64,23 @@ def test_editing_a_cell_recomputes_the_level_table_and_undo_restores_it(make_win
     assert not window.is_modified()
 
 
+def test_a_settings_change_is_one_undo_step(make_window, qtbot):
+    """Typing new levels recomputes at them; undo brings back the old levels and figures.
+    P95 of U(0,100) + U(0,100) is 200 - sqrt(1000) (Irwin–Hall n = 2, as above)."""
+    window = make_window()
+    open_estimate(window, qtbot, two_uniforms(), exact_settings())
+    with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
+        window.settings_panel.levels.setText("50, 95")
+        window.settings_panel.levels.editingFinished.emit()
+    assert level_value(window, 95) == pytest.approx(200 - math.sqrt(1000), rel=1e-3)
+    assert window.undo_stack.undoText() == "Change settings"
+    with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
+        window.undo_stack.undo()
+    assert window.settings.levels == (50.0, 80.0)
+    assert window.settings_panel.levels.text() == "50, 80"
+    assert level_value(window, 80) == pytest.approx(200 - math.sqrt(4000), rel=1e-3)
+
+
 def test_bad_row_is_left_out_with_a_notice(make_window, qtbot):
     window = make_window()
     open_estimate(window, qtbot, two_uniforms(), exact_settings())
