@@ -23,7 +23,7 @@ from scipy import signal
 
 from engine.distributions import Beta, Distribution, Fixed, Triangular, Uniform
 from engine.parallel import run_pair
-from engine.progress import Cancelled, Progress
+from engine.progress import Progress
 from engine.totals import Cumulants, GridTotal, PointTotal, Total
 
 # Grid steps per standard deviation of the total. At this resolution the percentile error
@@ -290,6 +290,3 @@ def _continuous_lattice(part, step: float) -> tuple[int, np.ndarray, float]:
 
 def _bounded(part) -> bool:
     return isinstance(part, Uniform | Triangular | Beta)
-
-
-__all__ = ["Cancelled", "cumulants_of", "exact_total", "item_lattice"]

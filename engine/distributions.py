@@ -81,13 +81,6 @@ class Distribution:
         return out
 
 
-def _central_from_raw(m1: float, m2: float, m3: float, m4: float) -> tuple[float, float, float]:
-    var = m2 - m1**2
-    mu3 = m3 - 3 * m1 * m2 + 2 * m1**3
-    mu4 = m4 - 4 * m1 * m3 + 6 * m1**2 * m2 - 3 * m1**4
-    return var, mu3, mu4
-
-
 class Continuous(Distribution):
     """A family written as loc + scale * Y with Y standardised."""
 

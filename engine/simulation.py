@@ -38,13 +38,6 @@ def item_streams(seed: int, count: int) -> list[np.random.Generator]:
     return [np.random.default_rng(s) for s in np.random.SeedSequence(seed).spawn(count)]
 
 
-def uniform_scores(rng: np.random.Generator, m: int, sampling: str) -> np.ndarray:
-    """m uniform scores: one per stratum (Latin hypercube) or plain random."""
-    if sampling == "lhs":
-        return (rng.permutation(m) + rng.random(m)) / m
-    return rng.random(m)
-
-
 def replicate_scores(
     rng: np.random.Generator, replicates: int, m: int, sampling: str
 ) -> np.ndarray:
