@@ -16,6 +16,7 @@ from dataclasses import asdict, dataclass, field
 from typing import Any
 
 import numpy as np
+from scipy import special
 
 from engine.convolution import cumulants_of, exact_total
 from engine.correlation import SHEET, Dependence, Targets, achieved_against, build_matrix, targets
@@ -91,7 +92,7 @@ class Diagnostics:
     normal_gap: NormalGap
     berry_esseen_bound: float
     berry_esseen_constant: float
-    cornish_fisher_monotone: bool
+    cornish_fisher_monotone: bool  # increasing over P0.1..P99.9 and the requested levels
     # The Berry-Esseen bound is a theorem about independent items only.
     berry_esseen_applies: bool = True
 
@@ -244,7 +245,7 @@ def analyze(
             drivers = item_drivers(items, dists)
         trials_used = total.trials
     rows = level_rows(total, dists, levels, base, tolerance, shortcut, dependence)
-    diagnostics = diagnose(items, dists, total, drivers, independent=not linked)
+    diagnostics = diagnose(items, dists, total, drivers, independent=not linked, levels=levels)
     reasons = reasons_for(diagnostics, drivers, dependence)
     return Analysis(
         levels=rows,
@@ -429,6 +430,13 @@ def level_rows(
     return rows
 
 
+def cornish_fisher_span(levels: Sequence[float]) -> float:
+    """The |z| the verdict needs Cornish–Fisher to be increasing over: P0.1 to P99.9 (the
+    charts' range) and any requested level beyond it."""
+    extreme = max(max(abs(float(lv) - 50) for lv in levels) + 50, 99.9)
+    return float(special.ndtri(extreme / 100))
+
+
 def diagnose(
     items: Sequence[LineItem],
     dists: Sequence[Distribution],
@@ -436,6 +444,7 @@ def diagnose(
     drivers: Sequence[ItemDriver],
     *,
     independent: bool = True,
+    levels: Sequence[float] = DEFAULT_LEVELS,
 ) -> Diagnostics:
     exact = cumulants_of(dists)
     events = [d for d, i in zip(dists, items, strict=True) if i.is_risk_event]
@@ -456,6 +465,6 @@ def diagnose(
         normal_gap=kolmogorov_gap(total),
         berry_esseen_bound=berry_esseen_bound(dists),
         berry_esseen_constant=BERRY_ESSEEN_C0,
-        cornish_fisher_monotone=domain.monotone,
+        cornish_fisher_monotone=domain.monotone_within(cornish_fisher_span(levels)),
         berry_esseen_applies=independent,
     )

@@ -37,6 +37,19 @@ class CornishFisherDomain:
     b: float
     c: float
 
+    def monotone_within(self, z_max: float) -> bool:
+        """Whether dw/dz > 0 for |z| <= z_max. A small negative excess kurtosis makes the
+        expansion fold back only near |z| ~ 15, far beyond any percentile a report reads,
+        so the verdict asks about the percentiles in use, not about every z."""
+
+        def slope(z: float) -> float:
+            return self.a * z * z + self.b * z + self.c
+
+        points = [-z_max, z_max]
+        if self.a != 0 and abs(self.b / (2 * self.a)) <= z_max:
+            points.append(-self.b / (2 * self.a))  # the slope's turning point
+        return min(slope(z) for z in points) > 0
+
 
 def cornish_fisher_domain(skewness: float, excess_kurtosis: float) -> CornishFisherDomain:
     g1, g2 = skewness, excess_kurtosis

@@ -69,8 +69,8 @@ def reasons_for(
         )
     if not diag.cornish_fisher_monotone:
         reasons.append(
-            "the skew and kurtosis are beyond the Cornish–Fisher expansion's valid domain, "
-            "so its column is unreliable"
+            "the skew and kurtosis fold the Cornish–Fisher expansion back within the "
+            "percentiles reported, so its column is unreliable"
         )
     return reasons
 

@@ -164,10 +164,10 @@ def _berry_esseen_note(bound: float, measured: float) -> str:
 
 def _cornish_fisher_note(analysis: Analysis) -> str:
     if analysis.diagnostics.cornish_fisher_monotone:
-        return "within its valid domain: its column is a usable skew-corrected check"
+        return "increasing over P0.1 to P99.9: its column is a usable skew-corrected check"
     return (
-        "outside its valid domain (the skew and kurtosis fold the expansion back): "
-        "its column is unreliable here"
+        "outside its valid domain (the skew and kurtosis fold the expansion back within "
+        "P0.1 to P99.9): its column is unreliable here"
     )
 
 

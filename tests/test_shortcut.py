@@ -77,6 +77,20 @@ def test_cornish_fisher_domain(g1: float, g2: float, expect: bool) -> None:
     assert bool(np.all(np.diff(g) >= 0)) is expect
 
 
+@pytest.mark.parametrize(
+    ("g1", "g2", "expect"),
+    [(0.08, -0.02, True), (0.0, 0.0, True), (2.0, 0.0, False), (0.0, 9.0, False)],
+)
+def test_cornish_fisher_is_judged_over_the_percentiles_reported(g1, g2, expect) -> None:
+    # A near-normal total with slightly negative kurtosis folds back only near |z| ~ 15
+    # (outside the global domain), yet the expansion increases over P0.1..P99.9.
+    z_max = float(special.ndtri(0.999))
+    assert cornish_fisher_domain(g1, g2).monotone_within(z_max) is expect
+    z = np.linspace(-z_max, z_max, 20_001)
+    g = z + (z * z - 1) * g1 / 6 + (z**3 - 3 * z) * g2 / 24 - (2 * z**3 - 5 * z) * g1 * g1 / 36
+    assert bool(np.all(np.diff(g) > 0)) is expect
+
+
 def _sup_gap(cdf, mean: float, sd: float, lo: float, hi: float) -> float:
     x = np.linspace(lo, hi, 20_001)
     return float(np.max(np.abs(cdf(x) - special.ndtr((x - mean) / sd))))
