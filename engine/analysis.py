@@ -22,8 +22,9 @@ from engine.convolution import cumulants_of, exact_total
 from engine.correlation import SHEET, Dependence, Targets, achieved_against, build_matrix, targets
 from engine.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
 from engine.distributions import Distribution
-from engine.iman_conover import ImanConoverScores
+from engine.iman_conover import ImanConoverPairing
 from engine.items import Estimate, InputError, LineItem, Problem
+from engine.parallel import beside
 from engine.progress import Progress
 from engine.sample_statistics import CorrelatedSampleStatistics
 from engine.shortcut import (
@@ -309,19 +310,23 @@ def simulate_correlated(
     tracker: Progress,
 ) -> tuple[Total, Dependence, CorrelatedSampleStatistics]:
     """The correlated simulation, its sample statistics, and the same items independent."""
-    scores = ImanConoverScores(aims.pearson_used, sampling)
-    stats = CorrelatedSampleStatistics(scores, dists)
-    total = simulate(
-        dists,
-        trials=trials,
-        seed=seed,
-        sampling=sampling,
-        scores=scores,
-        observe=stats,
-        min_per_replicate=2 * len(dists),
-        progress=tracker.part(0.0, 0.9),
-    )
-    independent = exact_total(dists, progress=tracker.part(0.9, 0.1), check_error=False)
+    pairing = ImanConoverPairing(aims.pearson_used)
+    stats = CorrelatedSampleStatistics(dists)
+    pending = beside(lambda: exact_total(dists, progress=tracker.silent(), check_error=False))
+    try:
+        total = simulate(
+            dists,
+            trials=trials,
+            seed=seed,
+            sampling=sampling,
+            pairing=pairing,
+            observe=stats,
+            min_per_replicate=2 * len(dists),
+            progress=tracker,
+        )
+        independent = pending.result()
+    finally:
+        pending.cancel()
     sds = np.array([d.sd for d in dists])
     deviation, worst = achieved_against(aims, stats.achieved)
     dependence = Dependence(

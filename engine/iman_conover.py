@@ -5,21 +5,23 @@ variables", Communications in Statistics - Simulation and Computation 11(3), 311
 build a score matrix S whose columns are random permutations of the van der Waerden scores
 Phi^-1(i / (n + 1)); E = corr(S) = F F' and the target P = Q Q'; T = S F'^-1 Q' then has
 exactly the product-moment correlation P (the F'^-1 step removes the sample's own chance
-correlation). Each item's sample is reordered to the ranks of its column of T, so every
-item keeps its own Latin hypercube (or random) sample exactly and only the pairing changes.
+correlation).
 
-Arrays here are (items, trials): one contiguous row per item, as the items are sampled.
+Each item's sample is then placed in the order of its column of T (engine.simulation draws
+it sorted and scatters it by that order). Arrays here are (items, trials): one contiguous
+row per item, as the items are sampled.
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
 from functools import lru_cache
 
 import numpy as np
 from scipy import linalg, special
+from scipy.linalg import blas
 
-from engine.parallel import run_split
+from engine.ranking import orders, random_permutations
+from engine.workspace import Workspace
 
 
 def rank_to_pearson(rank: np.ndarray) -> np.ndarray:
@@ -52,82 +54,48 @@ def square_root(p: np.ndarray) -> np.ndarray:
         return v * np.sqrt(np.maximum(w, 0.0))
 
 
-def score_matrix(streams: Sequence[np.random.Generator], n: int) -> np.ndarray:
-    """S: each item's row a random permutation of the van der Waerden scores, drawn from
-    that item's own stream."""
-    scores = van_der_waerden(n)
-    s = np.empty((len(streams), n), dtype=scores.dtype)
-
-    def fill(part: range) -> None:
-        for k in part:
-            np.take(scores, streams[k].permutation(n), out=s[k])
-
-    run_split(fill, len(streams))
-    return s
+def score_matrix(
+    rng: np.random.Generator,
+    items: int,
+    n: int,
+    keys: np.ndarray | None = None,
+    out: np.ndarray | None = None,
+) -> np.ndarray:
+    """S: each item's row an independent random permutation of the van der Waerden scores.
+    `keys` (uint64) and `out` (float32), both items x n, are work arrays to reuse."""
+    return van_der_waerden(n).take(random_permutations(rng, items, n, out=keys), out=out)
 
 
-def induce(s: np.ndarray, target_factor: np.ndarray) -> np.ndarray:
+def induce(s: np.ndarray, target_factor: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
     """T (items, trials) with product-moment correlation exactly Q Q' (the paper's
     T = S F'^-1 Q', transposed). The scores' rows have zero mean and equal sums of squares,
     so corr(S) is S S' divided by that sum."""
-    e = (s @ s.T).astype(float) / float(s[0].astype(float) @ s[0])
+    # S S' by the symmetric rank-k update (half a product; np.linalg.cholesky reads only
+    # the lower triangle it fills), then Q F^-1 as a triangular solve: Q F^-1 F = Q.
+    e = blas.ssyrk(1.0, s.T, trans=1, lower=1).astype(float) / float(s[0].astype(float) @ s[0])
     f = np.linalg.cholesky(e)
-    mixing = target_factor @ linalg.solve_triangular(f, np.eye(len(f)), lower=True)
-    return mixing.astype(s.dtype) @ s
+    mixing = linalg.solve_triangular(f, target_factor.T, trans="T", lower=True).T
+    return np.matmul(mixing.astype(s.dtype), s, out=out)
 
 
-def orders(t: np.ndarray) -> np.ndarray:
-    """Per row, the trial indices in increasing order of t. Keys pack each value's sortable
-    bits with its trial index in the low bits, so a plain (vectorised) sort of integers does
-    what argsort does at about half the cost."""
-    n = t.shape[1]
-    bits = max(int(n - 1).bit_length(), 1)
-    mask = np.uint64((1 << bits) - 1)
-    # Positive doubles order like their bit patterns; shift every row above zero first.
-    keys = np.subtract(t, t.min(axis=1, keepdims=True) - 1.0, dtype=np.float64).view(np.uint64)
-    keys &= ~mask
-    keys |= np.arange(n, dtype=np.uint64)
-    keys.sort(axis=1)
-    keys &= mask
-    return keys.astype(np.intp)
-
-
-class ImanConoverScores:
-    """The `scores` hook of engine.simulation.simulate: uniform scores (items, trials) for
-    one replicate, each item's own sample design reordered to the target rank correlation.
+class ImanConoverPairing:
+    """The `pairing` hook of engine.simulation.simulate: for one replicate, each item's
+    trials in the order of its column of T, so every item keeps its own sample exactly
+    and only the pairing changes.
 
     `pearson` is the product-moment target for the normal scores (rank_to_pearson of the
-    rank target). `last_order` and `last_ranks` keep the replicate's order and ranks
-    (items, trials), so statistics of the sample need not sort it again.
+    rank target). Called from both engine threads at once, each with its own stream.
     """
 
-    def __init__(self, pearson: np.ndarray, sampling: str):
+    def __init__(self, pearson: np.ndarray):
         self.factor = square_root(np.asarray(pearson, dtype=float))
-        self.sampling = sampling
-        self.last_order: np.ndarray | None = None
-        self.last_ranks: np.ndarray | None = None
 
-    def __call__(self, streams: list[np.random.Generator], n: int) -> np.ndarray:
-        if n <= len(streams):
+    def __call__(self, rng: np.random.Generator, items: int, n: int, work: Workspace) -> np.ndarray:
+        if n <= items:
             raise ValueError(
-                f"Iman-Conover needs more trials per replicate ({n}) than items ({len(streams)})."
+                f"Iman-Conover needs more trials per replicate ({n}) than items ({items})."
             )
-        t = induce(score_matrix(streams, n), self.factor)
-        order = np.empty(t.shape, dtype=np.intp)
-        ranks = np.empty_like(order)
-        u = np.empty(t.shape)
-        strata = np.arange(n)
-
-        def reorder(part: range) -> None:
-            order[part.start : part.stop] = orders(t[part.start : part.stop])
-            for k in part:
-                g = streams[k]
-                ranks[k, order[k]] = strata
-                if self.sampling == "lhs":
-                    u[k, order[k]] = (strata + g.random(n)) / n
-                else:
-                    u[k, order[k]] = np.sort(g.random(n))
-
-        run_split(reorder, len(streams))
-        self.last_order, self.last_ranks = order, ranks
-        return u
+        keys = work.get("keys", (items, n), np.uint64)
+        s = score_matrix(rng, items, n, keys=keys, out=work.get("s", (items, n), np.float32))
+        t = induce(s, self.factor, out=work.get("t", (items, n), np.float32))
+        return orders(t, out=keys)  # the permutations' keys are done with

@@ -38,3 +38,7 @@ class Progress:
         return Progress(
             self._progress, self._cancel, self._start + self._span * start, self._span * span
         )
+
+    def silent(self) -> Progress:
+        """The same cancellation without reports: for work running beside this one."""
+        return Progress(None, self._cancel)

@@ -2,27 +2,44 @@
 
 Memory stays bounded by one replicate (items x trials) however many trials are run: each
 replicate adds its covariances and rank correlations to running sums, and the results are
-the averages over replicates. The order and ranks come from the Iman-Conover step, which
-already knows them, so nothing is sorted twice.
+the averages over replicates. Each item's order comes from the Iman-Conover step, which
+already knows it, so nothing is sorted twice.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
+from functools import lru_cache
 
 import numpy as np
 
 from engine.distributions import Distribution
-from engine.iman_conover import ImanConoverScores
+from engine.parallel import PARTS
+from engine.workspace import Workspace
 
 
-def tie_averaged_ranks(values_ascending: np.ndarray) -> np.ndarray:
-    """Ranks 0..n-1 of an ascending array, ties sharing their average rank (as Spearman's
-    coefficient with ties is usually computed)."""
-    n = len(values_ascending)
-    starts = np.flatnonzero(np.r_[True, values_ascending[1:] != values_ascending[:-1]])
-    ends = np.r_[starts[1:], n]
-    return np.repeat((starts + ends - 1) / 2, ends - starts)
+def tie_averaged_ranks(ascending: np.ndarray) -> np.ndarray:
+    """Ranks 0..n-1 along the last axis of values in ascending order, ties sharing their
+    average rank (as Spearman's coefficient with ties is usually computed)."""
+    rows = np.atleast_2d(ascending)
+    n = rows.shape[-1]
+    index = np.broadcast_to(np.arange(n), rows.shape)
+    starts = np.ones(rows.shape, dtype=bool)  # where a run of equal values begins
+    np.not_equal(rows[:, 1:], rows[:, :-1], out=starts[:, 1:])
+    ends = np.ones(rows.shape, dtype=bool)  # and where one ends
+    ends[:, :-1] = starts[:, 1:]
+    first = np.maximum.accumulate(np.where(starts, index, 0), axis=1)
+    last = np.minimum.accumulate(np.where(ends, index, n - 1)[:, ::-1], axis=1)[:, ::-1]
+    return ((first + last) / 2).reshape(np.shape(ascending))
+
+
+@lru_cache(maxsize=2)
+def _centred_ranks(rows: int, n: int) -> np.ndarray:
+    """0..n-1 less their mean, float32, once for each row (rows * n)."""
+    strata = np.arange(n, dtype=np.float32) - np.float32((n - 1) / 2)
+    tiled = np.tile(strata, rows)
+    tiled.setflags(write=False)
+    return tiled
 
 
 class CorrelatedSampleStatistics:
@@ -32,28 +49,28 @@ class CorrelatedSampleStatistics:
     covariance with the total (var_i + sum_j cov_ij, its part in the total's variance); and
     each item's rank correlation with the total, ties averaged. Only items with point
     masses (risk events, discrete and fixed items) can tie, so only they are re-ranked.
+    Each lane adds to its own sums and the lanes are added in order at the end, so the
+    averages are the same however the two threads interleave.
     """
 
-    def __init__(self, scores: ImanConoverScores, dists: Sequence[Distribution]):
+    def __init__(self, dists: Sequence[Distribution]):
         count = len(dists)
-        self.scores = scores
-        self.can_tie = [k for k, d in enumerate(dists) if d.parts()[0]]
-        self.replicates = 0
-        self.rank_sum = np.zeros((count, count))
-        self.covariance_sum = np.zeros(count)
-        self.with_total_sum = np.zeros(count)
+        self.can_tie = np.array([k for k, d in enumerate(dists) if d.parts()[0]], dtype=np.intp)
+        self.replicates = np.zeros(PARTS, dtype=int)
+        self.rank_sum = np.zeros((PARTS, count, count))
+        self.covariance_sum = np.zeros((PARTS, count))
+        self.with_total_sum = np.zeros((PARTS, count))
+        self.work = [Workspace() for _ in range(PARTS)]
 
-    def __call__(self, values: np.ndarray, total: np.ndarray) -> None:
-        order, ranks = self.scores.last_order, self.scores.last_ranks
-        assert order is not None and ranks is not None and ranks.shape == values.shape
+    def __call__(self, lane: int, values: np.ndarray, total: np.ndarray, positions: np.ndarray):
         n = values.shape[1]
         spread = n * (n * n - 1) / 12  # sum of squared centred ranks 0..n-1
-        centred = ranks.astype(np.float32)
-        centred -= (n - 1) / 2
-        self.rank_sum += (centred @ centred.T).astype(float) / spread
+        centred = self.work[lane].get("centred", values.shape, np.float32)  # ranks less mean
+        centred.reshape(-1)[positions.ravel()] = _centred_ranks(*values.shape)
+        self.rank_sum[lane] += (centred @ centred.T).astype(float) / spread
 
         deviations = total - total.mean()
-        self.covariance_sum += (values @ deviations) / (n - 1)
+        self.covariance_sum[lane] += (values @ deviations) / (n - 1)
 
         order_total = np.argsort(total, kind="stable")
         t = np.empty(n)
@@ -61,27 +78,40 @@ class CorrelatedSampleStatistics:
         t -= t.mean()
         t_norm = np.sqrt(t @ t)
         if t_norm == 0:
-            self.with_total_sum += np.nan
+            self.with_total_sum[lane] += np.nan
         else:
             norms = np.full(len(values), np.sqrt(spread))
-            for k in self.can_tie:
-                tied = np.empty(n)
-                tied[order[k]] = tie_averaged_ranks(values[k, order[k]])
-                centred[k] = tied - tied.mean()
-                norms[k] = np.sqrt(centred[k].astype(float) @ centred[k])
+            if len(self.can_tie):
+                # the items with point masses, re-ranked together: ranks in sorted order,
+                # then put back in trial order (row r of `tied` is item can_tie[r])
+                where = positions[self.can_tie]
+                ranks = tie_averaged_ranks(values.reshape(-1)[where])
+                where -= (self.can_tie * n - np.arange(len(self.can_tie)) * n)[:, None]
+                tied = np.empty(where.shape)
+                tied.reshape(-1)[where.ravel()] = ranks.ravel()
+                tied -= tied.mean(axis=1, keepdims=True)
+                centred[self.can_tie] = tied
+                wide = centred[self.can_tie].astype(float)
+                norms[self.can_tie] = np.sqrt(np.sum(wide * wide, axis=1))
             with np.errstate(invalid="ignore", divide="ignore"):
-                self.with_total_sum += (centred @ t.astype(np.float32)) / (norms * t_norm)
-        self.replicates += 1
+                self.with_total_sum[lane] += (centred @ t.astype(np.float32)) / (norms * t_norm)
+        self.replicates[lane] += 1
+
+    def _mean(self, sums: np.ndarray) -> np.ndarray:
+        total = sums[0].copy()
+        for lane in sums[1:]:
+            total += lane
+        return total / self.replicates.sum()
 
     @property
     def achieved(self) -> np.ndarray:
-        return self.rank_sum / self.replicates
+        return self._mean(self.rank_sum)
 
     @property
     def variance_contributions(self) -> np.ndarray:
-        return self.covariance_sum / self.replicates
+        return self._mean(self.covariance_sum)
 
     @property
     def rank_with_total(self) -> np.ndarray:
         """NaN for an item that never varies (its rank correlation is undefined)."""
-        return self.with_total_sum / self.replicates
+        return self._mean(self.with_total_sum)

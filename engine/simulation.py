@@ -1,32 +1,44 @@
 """The total by simulation: Latin hypercube or plain Monte Carlo, in independent replicates.
 
-Every item draws from its own random stream (child `k` of the run's seed for item `k`), so
-editing one item leaves every other item's draws unchanged: the change in the total is the
-edit's effect, not fresh noise. Trials are drawn in replicates; each replicate is one
-complete design, which bounds memory and gives the batch standard errors of `SampleTotal`.
-Correlation, when given, is induced within each replicate by `scores` (engine.iman_conover):
-the items' scores are then drawn together, and `observe` sees each replicate's item values
-before they are summed (engine.sample_statistics gathers the drivers from them).
+Trials are drawn in replicates; each replicate is one complete design, which bounds memory
+and gives the batch standard errors of `SampleTotal`. Random draws never depend on the
+items' parameters, so editing one item leaves every other item's draws unchanged: the
+change in the total is the edit's effect, not fresh noise. Independent items each draw from
+their own stream (child `k` of the run's seed for item `k`), all replicates at once.
+Correlation, when given, is induced within each replicate by `pairing` (engine.iman_conover):
+each item still draws its own design, in increasing order, and the pairing says which trial
+each of its values goes to; replicates then have streams of their own and the draws are
+(items, trials) matrices. `observe` sees each replicate's item values before they are
+summed (engine.sample_statistics gathers the drivers from them).
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Sequence
+from functools import lru_cache
 
 import numpy as np
 
+from engine.batch_sampling import BatchSampler
 from engine.distributions import Distribution
-from engine.parallel import run_split
+from engine.parallel import blas_on_one_thread, halves, run_split
 from engine.progress import Progress
+from engine.ranking import random_permutations
 from engine.totals import Cumulants, SampleTotal
+from engine.workspace import Workspace
 
 REPLICATES = 20
 MIN_PER_REPLICATE = 500
+PAIRED_VALUES = 1 << 21  # item values in one correlated replicate, at most (but see min)
 
-# (rngs per item, trials in this replicate) -> uniform scores (items, trials): one row per item
-ScoreMaker = Callable[[list[np.random.Generator], int], np.ndarray]
-# (item values (items, trials), total (trials,)) of each replicate, before the next is drawn
-Observer = Callable[[np.ndarray, np.ndarray], None]
+# (rng, items, trials in this replicate, the thread's work arrays) -> per item, the trials in
+# increasing order of its value (items, trials): its k-th smallest goes to trial order[i, k]
+Pairing = Callable[[np.random.Generator, int, int, Workspace], np.ndarray]
+# (lane, item values (items, trials), total (trials,), positions) of each replicate, before
+# the lane draws its next; lanes run at the same time, on their own replicates. positions
+# (items, trials): where in values.ravel() each item's values lie, smallest first.
+Observer = Callable[[int, np.ndarray, np.ndarray, np.ndarray], None]
 
 
 def new_seed() -> int:
@@ -44,13 +56,32 @@ def replicate_scores(
     """One item's scores for every replicate at once (replicates * m, replicate by
     replicate): a Latin hypercube design of m strata per replicate, or plain random."""
     if sampling == "lhs":
-        strata = rng.permuted(
-            np.broadcast_to(np.arange(m, dtype=np.float64), (replicates, m)), axis=1
-        )
+        strata = random_permutations(rng, replicates, m).astype(np.float64)
         strata += rng.random((replicates, m))
         strata /= m
         return strata.ravel()
     return rng.random(replicates * m)
+
+
+def sorted_designs(
+    rng: np.random.Generator, rows: int, n: int, sampling: str, out: np.ndarray | None = None
+) -> np.ndarray:
+    """(rows, n) scores, each row in increasing order: a Latin hypercube's point in each of
+    n strata, or n plain random scores, sorted. `out` is a work array to fill."""
+    u = rng.random((rows, n), out=out)
+    if sampling != "lhs":
+        u.sort(axis=1)
+        return u
+    u += _strata(n)
+    u /= n
+    return u
+
+
+@lru_cache(maxsize=4)
+def _strata(n: int) -> np.ndarray:
+    strata = np.arange(n, dtype=np.float64)
+    strata.setflags(write=False)
+    return strata
 
 
 def simulate(
@@ -60,33 +91,72 @@ def simulate(
     seed: int,
     sampling: str = "lhs",
     replicates: int = REPLICATES,
-    scores: ScoreMaker | None = None,
+    pairing: Pairing | None = None,
     observe: Observer | None = None,
     min_per_replicate: int = 0,
     progress: Progress | None = None,
 ) -> SampleTotal:
-    """Simulated total of the items; `scores` replaces independent sampling when given."""
+    """Simulated total of the items; `pairing` replaces independent pairing when given."""
     progress = progress or Progress()
-    replicates, per = replicate_layout(trials, replicates, min_per_replicate)
-    streams = item_streams(seed, len(dists))
-    if scores is None:
+    # A paired replicate holds several (items, trials) arrays per thread: bound their size
+    # with more, smaller replicates for long runs (a million trials of 200 items: 100 of 10k).
+    largest = None
+    if pairing is not None:  # a round number, so round trial counts split evenly
+        largest = max(min_per_replicate, PAIRED_VALUES // len(dists) // 1000 * 1000)
+    replicates, per = replicate_layout(trials, replicates, min_per_replicate, largest)
+    if pairing is None:
+        streams = item_streams(seed, len(dists))
         out = _independent(dists, streams, replicates, per, sampling, progress)
     else:
-        out = np.zeros((replicates, per))
-        for r in range(replicates):
-            u = scores(streams, per)
-            values = np.empty((len(dists), per))
+        out = _paired(dists, seed, replicates, per, sampling, pairing, observe, progress)
+    return SampleTotal(out, sample_cumulants(out.ravel()), sampling=sampling)
 
-            def draw(part: range, u=u, values=values) -> None:
-                for k in part:
-                    values[k] = dists[k].sample(u[k])
 
-            run_split(draw, len(dists))
+def _paired(
+    dists: Sequence[Distribution],
+    seed: int,
+    replicates: int,
+    per: int,
+    sampling: str,
+    pairing: Pairing,
+    observe: Observer | None,
+    progress: Progress,
+) -> np.ndarray:
+    """Replicates split between two lanes (threads). Replicate r draws from streams of its
+    own (one for the pairing, one for the designs), so results do not depend on the lanes.
+    Each item's design is drawn sorted, the whole replicate sampled family by family, and
+    each value goes to the trial the pairing gives."""
+    count = len(dists)
+    out = np.zeros((replicates, per))
+    lanes = halves(replicates)
+    seeds = np.random.SeedSequence(seed).spawn(replicates)
+    sampler = BatchSampler(dists)
+    row_starts = (np.arange(count) * per)[:, None]
+    done = [0] * len(lanes)
+
+    def run(part: range) -> None:
+        lane = lanes.index(part)
+        work = Workspace()
+        shape = (count, per)
+        for r in part:
+            pairing_rng, design_rng = (np.random.default_rng(s) for s in seeds[r].spawn(2))
+            positions = pairing(pairing_rng, count, per, work)
+            positions += row_starts  # order within each row -> index into values.ravel()
+            design = sorted_designs(
+                design_rng, count, per, sampling, out=work.get("u", shape, float)
+            )
+            drawn = sampler(design, out=work.get("drawn", shape, float))
+            values = work.get("values", shape, float)
+            values.reshape(-1)[positions.ravel()] = drawn.ravel()
             np.sum(values, axis=0, out=out[r])
             if observe is not None:
-                observe(values, out[r])
-            progress.report((r + 1) / replicates)
-    return SampleTotal(out, sample_cumulants(out.ravel()), sampling=sampling)
+                observe(lane, values, out[r], positions)
+            done[lane] += 1
+            progress.report(sum(done) / replicates)
+
+    with blas_on_one_thread():  # the lanes are the parallelism; BLAS threads would spin
+        run_split(run, replicates)
+    return out
 
 
 def _independent(
@@ -122,17 +192,24 @@ def _independent(
 def sample_cumulants(x: np.ndarray) -> Cumulants:
     mean = float(x.mean())
     d = x - mean
-    var = float(np.mean(d * d))
-    k3 = float(np.mean(d**3))
-    k4 = float(np.mean(d**4)) - 3 * var * var
+    d2 = d * d
+    var = float(np.mean(d2))
+    k3 = float(np.mean(d2 * d))
+    k4 = float(np.mean(d2 * d2)) - 3 * var * var
     return Cumulants(mean, var, k3, k4)
 
 
 def replicate_layout(
-    trials: int, replicates: int = REPLICATES, min_per_replicate: int = 0
+    trials: int,
+    replicates: int = REPLICATES,
+    min_per_replicate: int = 0,
+    max_per_replicate: int | None = None,
 ) -> tuple[int, int]:
     """(replicates, trials in each): at least MIN_PER_REPLICATE trials per replicate (or
     `min_per_replicate` if larger: Iman-Conover needs more trials than items), so a
-    replicate's percentiles are meaningful, and at least two replicates for an error."""
+    replicate's percentiles are meaningful, and at least two replicates for an error;
+    more replicates than asked when each would exceed `max_per_replicate`."""
     count = max(2, min(replicates, trials // max(MIN_PER_REPLICATE, min_per_replicate)))
+    if max_per_replicate is not None:
+        count = max(count, math.ceil(trials / max_per_replicate))
     return count, max(trials // count, 1)

@@ -8,10 +8,20 @@ import numpy as np
 import pytest
 from scipy import special, stats
 
-from engine import CorrelationPair, CorrelationSpec, Estimate, InputError, LineItem, analyze
+from engine import (
+    Cancelled,
+    CorrelationPair,
+    CorrelationSpec,
+    Estimate,
+    InputError,
+    LineItem,
+    analyze,
+    parallel,
+)
 from engine.convolution import exact_total
-from engine.iman_conover import induce, orders, rank_to_pearson, score_matrix, square_root
-from engine.simulation import item_streams
+from engine.iman_conover import induce, rank_to_pearson, score_matrix, square_root
+from engine.ranking import orders
+from engine.simulation import replicate_layout
 from engine.validation import build_distribution
 
 Z90 = special.ndtri(0.9)
@@ -32,7 +42,7 @@ RANK_TARGET = np.array(
 def test_iman_conover_hits_the_product_moment_target_exactly():
     # Iman & Conover (1982): T = S F'^-1 Q' has exactly the target correlation Q Q'.
     pearson = rank_to_pearson(RANK_TARGET)
-    t = induce(score_matrix(item_streams(7, 4), 100), square_root(pearson))
+    t = induce(score_matrix(np.random.default_rng(7), 4, 100), square_root(pearson))
     assert np.allclose(np.corrcoef(t), pearson, atol=1e-5)  # single precision scores
 
 
@@ -42,17 +52,12 @@ def test_iman_conover_rank_correlation_within_sampling_tolerance():
     factor = square_root(rank_to_pearson(RANK_TARGET))
     achieved = []
     for seed in range(200):
-        order = orders(induce(score_matrix(item_streams(seed, 4), 100), factor))
+        order = orders(induce(score_matrix(np.random.default_rng(seed), 4, 100), factor))
         ranks = np.argsort(order, axis=1)
         achieved.append(stats.spearmanr(ranks.T).statistic)
     mean = np.mean(achieved, axis=0)
     assert np.abs(mean - RANK_TARGET).max() < 0.02
     assert np.abs(np.array(achieved) - RANK_TARGET).max() < 0.2
-
-
-def test_orders_is_argsort():
-    t = np.random.default_rng(5).standard_normal((6, 1000))
-    assert np.array_equal(orders(t), np.argsort(t, axis=1, kind="stable"))
 
 
 SDS = np.array([10.0, 20.0, 5.0])
@@ -192,3 +197,47 @@ def test_normal_score_matrix_repaired_when_the_conversion_breaks_it():
     assert np.linalg.eigvalsh(dep.pearson_used)[0] > -1e-9
     assert "normal-score correlations were repaired" in analysis.method_reason
     assert any("normal-score correlations" in r for r in analysis.reasons)
+
+
+def test_correlated_run_is_the_same_on_one_lane_or_two(monkeypatch):
+    # Replicates draw from streams of their own, so the split between threads cannot move
+    # a single trial; the lanes' statistics are summed in order.
+    estimate = _correlated_normals()
+    two = analyze(estimate, trials=20_000, seed=3)
+    monkeypatch.setattr(parallel, "PARTS", 1)
+    one = analyze(estimate, trials=20_000, seed=3)
+    np.testing.assert_array_equal(one.total.by_replicate, two.total.by_replicate)
+    np.testing.assert_allclose(one.dependence.achieved, two.dependence.achieved, rtol=1e-12)
+
+
+def test_correlated_edit_moves_only_the_edited_item():
+    # The draws do not depend on the items' parameters: shifting one normal item by 30
+    # shifts every trial of the correlated total by exactly 30.
+    estimate = _correlated_normals()
+    shifted = Estimate(
+        [
+            estimate.items[0],
+            estimate.items[1].with_changes(
+                low=estimate.items[1].low + 30, high=estimate.items[1].high + 30
+            ),
+            estimate.items[2],
+        ],
+        correlation=estimate.correlation,
+    )
+    a = analyze(estimate, trials=10_000, seed=4).total.by_replicate
+    b = analyze(shifted, trials=10_000, seed=4).total.by_replicate
+    np.testing.assert_allclose(b - a, 30.0, atol=1e-9)
+
+
+def test_correlated_run_can_be_cancelled_and_reports_progress():
+    seen: list[float] = []
+    analyze(_correlated_normals(), trials=10_000, seed=1, progress=seen.append)
+    assert seen and seen[-1] == pytest.approx(1.0)
+    with pytest.raises(Cancelled):
+        analyze(_correlated_normals(), trials=10_000, seed=1, cancel=lambda: True)
+
+
+def test_long_correlated_runs_use_more_smaller_replicates():
+    # a replicate's work arrays stay near 2^21 values: 200 items x 1M trials -> 100 x 10,000
+    assert replicate_layout(1_000_000, 20, 400, 10_000) == (100, 10_000)
+    assert replicate_layout(100_000, 20, 400, 10_000) == (20, 5_000)

@@ -7,7 +7,7 @@ import math
 
 import numpy as np
 import pytest
-from scipy import integrate, stats
+from scipy import integrate, special, stats
 
 from engine.distributions import (
     Beta,
@@ -172,6 +172,39 @@ def test_sample_is_the_inverse_transform(dist, ref) -> None:
         assert np.max(np.abs(got - dist.ppf(u))) <= 1e-9 * (dist.high - dist.low)
     else:
         np.testing.assert_array_equal(got, dist.ppf(u))
+
+
+# Shapes from flat to sharply peaked, peaks at either end, densities infinite at an end
+# (alpha or beta < 1) and PERT shapes far from the usual 4.
+BETA_SHAPES = [
+    (2.3, 3.1),
+    (1.0, 5.0),
+    (5.0, 1.0),
+    (1.2, 4.8),
+    (0.7, 3.0),
+    (3.0, 0.7),
+    (0.3, 2.0),
+    (1.0001, 3.0),
+    (1.05, 1.2),
+    (13.0, 29.0),
+    (51.0, 3.0),
+    (101.0, 1.5),
+    (201.0, 201.0),
+]
+
+
+@pytest.mark.parametrize(("a", "b"), BETA_SHAPES)
+def test_beta_table_matches_betaincinv_into_the_far_tails(a, b) -> None:
+    rng = np.random.default_rng(11)
+    # Uniform over the body, log-uniform deep into both tails, and the awkward floats.
+    tails = 2.0 ** rng.uniform(-45, -4, 20_000)
+    u = np.concatenate(
+        [rng.random(20_000), tails, 1 - tails, [0.0, 2**-100, 2**-40, 1 - 2**-53, 1.0]]
+    )
+    dist = Beta(3.0, 8.0, a, b)
+    # reference: scipy.special.betaincinv, the regularised incomplete beta's inverse
+    exact = 3.0 + 5.0 * special.betaincinv(a, b, u)
+    assert np.max(np.abs(dist.sample(u) - exact)) <= 1e-9 * 5.0
 
 
 def _mixture_moments(p: float, ref) -> tuple[float, float, float, float]:

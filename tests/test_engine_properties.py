@@ -80,11 +80,22 @@ def test_exact_and_simulated_agree_within_their_errors(parts, seed) -> None:
     exact = exact_total(parts)
     sim = simulate(parts, trials=20_000, seed=seed)
     q = Q[9::10]
+    if len(parts) == 1:
+        # One item: its Latin hypercube (McKay, Beckman & Conover 1979) is stratified in
+        # the total itself, each of its 1000 strata holding one point from every replicate,
+        # so the pooled percentile lies within one stratum of q; the batch error (the
+        # spread of single replicates) does not describe that estimator.
+        width = 1 / sim.by_replicate.shape[1]
+        got, slack = sim.ppf(q), _tol(exact) + 1e-9 * exact.sd
+        assert np.all(got >= exact.ppf(np.maximum(q - width, 0.0)) - slack)
+        assert np.all(got <= exact.ppf(np.minimum(q + width, 1.0)) + slack)
+        return
     se = sim.standard_error(q)
     diff = np.abs(sim.ppf(q) - exact.ppf(q))
-    # 5 batch standard errors (t with 19 df), plus the grid's bound; where the level falls on
+    # 6 batch standard errors (t with 19 df: 2 P(t > 6) = 9e-6 a level, under 1e-3 over the
+    # 9 levels of 8 examples; scipy.stats.t), plus the grid's bound; where the level falls on
     # a risk event's point mass the simulated percentile has no spread (se 0) and must match
-    assert np.all(diff <= 5 * se + _tol(exact) + 1e-6 * exact.sd), (diff, se)
+    assert np.all(diff <= 6 * se + _tol(exact) + 1e-6 * exact.sd), (diff, se)
 
 
 def _scale(d, k: float):
