@@ -27,14 +27,8 @@ def orders(t: np.ndarray, out: np.ndarray | None = None) -> np.ndarray:
     np.add(t, np.float32(0.0), out=t)
     keys = np.empty((rows, n), dtype=np.uint64) if out is None else out
     words = keys.view(np.uint32).reshape(rows, n, 2)
-    high, low = (
-        (words[..., 1], words[..., 0])
-        if sys.byteorder == "little"
-        else (
-            words[..., 0],
-            words[..., 1],
-        )
-    )
+    top = 1 if sys.byteorder == "little" else 0  # which uint32 of a key is its high half
+    high, low = words[..., top], words[..., 1 - top]
     np.right_shift(t.view(np.int32), 31, out=high.view(np.int32))  # all ones if negative
     high |= np.uint32(0x80000000)
     high ^= t.view(np.uint32)

@@ -89,7 +89,7 @@ class TabulatedInverse:
         """Values at scores u: (tables, n), or any shape for a single table."""
         u = np.asarray(u, dtype=float)
         rows = len(self.exact)
-        grid = u.reshape(rows, -1) if rows > 1 else u.reshape(1, -1)
+        grid = u.reshape(rows, -1)
         n = grid.shape[1]
         out = np.empty(grid.shape)
         body_cells = self.body.shape[1] // rows
