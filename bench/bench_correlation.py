@@ -20,7 +20,7 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, analyze
-from engine.simulation import simulate
+from engine.simulation.replicates import simulate
 from engine.validation import build_distribution
 
 ITEMS = 200

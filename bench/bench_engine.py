@@ -16,9 +16,9 @@ import openturns as ot
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from engine.convolution import exact_total
-from engine.distributions import Lognormal, Triangular
-from engine.simulation import simulate
+from engine.exact.convolution import exact_total
+from engine.families.distributions import Lognormal, Triangular
+from engine.simulation.replicates import simulate
 
 Q = np.arange(1, 100) / 100
 rows: list[tuple[str, str, str]] = []

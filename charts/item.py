@@ -17,7 +17,7 @@ from charts.style import (
     style_axes,
 )
 from engine import LineItem
-from engine.distributions import Distribution
+from engine.families.distributions import Distribution
 
 SHOWN = (0.001, 0.999)
 

@@ -9,7 +9,7 @@ from matplotlib.axes import Axes
 from matplotlib.axis import Axis
 from matplotlib.ticker import FuncFormatter
 
-from engine.verdict import compact
+from engine.shortcut.verdict import compact
 
 
 @dataclass(frozen=True)

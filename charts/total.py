@@ -20,7 +20,7 @@ from charts.style import (
     style_axes,
 )
 from engine import Analysis
-from engine.totals import GridTotal, SampleTotal
+from engine.exact.totals import GridTotal, SampleTotal
 
 # Central range drawn: past these the curves are flat and only squeeze the levels together.
 SHOWN = (0.0005, 0.9995)

@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import TextIO
 
 from engine import Estimate, InputError, Settings, analyze
-from engine.verdict import compact
+from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
 
@@ -140,7 +140,7 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
 
 def _correlation_problems(estimate: Estimate) -> list[str]:
     """A stated matrix that contradicts itself is a problem until its repair is accepted."""
-    from engine.correlation import repair_preview
+    from engine.dependence.correlation import repair_preview
 
     if estimate.correlation.is_independent or estimate.correlation.accept_repair:
         return []

@@ -1,7 +1,7 @@
 """`analyze`: the total of an estimate at each confidence level, beside the normal shortcut.
 
 Independent items are convolved exactly by default. Correlated items (any non-zero stated
-coefficient, see engine.correlation) are simulated with Iman-Conover, and each level then
+coefficient, see engine.dependence.correlation) are simulated with Iman-Conover, and each level then
 also shows the normal shortcut with the covariances and the exact total the same items
 would have if they were independent.
 """
@@ -18,16 +18,21 @@ from typing import Any
 import numpy as np
 from scipy import special
 
-from engine.convolution import cumulants_of, exact_total
-from engine.correlation import SHEET, Dependence, Targets, achieved_against, build_matrix, targets
-from engine.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
-from engine.distributions import Distribution
-from engine.iman_conover import ImanConoverPairing
+from engine.dependence.correlation import (
+    SHEET,
+    Dependence,
+    Targets,
+    achieved_against,
+    build_matrix,
+    targets,
+)
+from engine.exact.convolution import cumulants_of, exact_total
+from engine.exact.totals import Cumulants, GridTotal, SampleTotal, Total
+from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
-from engine.parallel import beside
 from engine.progress import Progress
-from engine.sample_statistics import CorrelatedSampleStatistics
-from engine.shortcut import (
+from engine.shortcut.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
+from engine.shortcut.normal import (
     BERRY_ESSEEN_C0,
     berry_esseen_bound,
     cornish_fisher_domain,
@@ -36,10 +41,12 @@ from engine.shortcut import (
     normal_percentile,
     sum_of_item_percentiles,
 )
-from engine.simulation import new_seed, simulate
-from engine.totals import Cumulants, GridTotal, SampleTotal, Total
+from engine.shortcut.verdict import reasons_for, summary_sentence
+from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.replicates import new_seed, simulate
+from engine.simulation.sample_statistics import CorrelatedSampleStatistics
+from engine.threads import beside
 from engine.validation import base_value, build_distribution
-from engine.verdict import reasons_for, summary_sentence
 
 DEFAULT_LEVELS = (50.0, 80.0, 90.0)
 DEFAULT_TOLERANCE = 0.01  # 1% of the total's percentile (common practice, no source)
@@ -80,7 +87,7 @@ class LevelRow:
 
 @dataclass(frozen=True)
 class Diagnostics:
-    """The evidence behind the verdict; see engine.verdict for how it is put into words."""
+    """The evidence behind the verdict; see engine.shortcut.verdict for how it is put into words."""
 
     item_count: int
     uncertain_count: int

@@ -96,6 +96,12 @@ class LineItem:
     shape: float = 4.0
     values: tuple[tuple[float, float], ...] = ()
     row: int | None = None
+    # Where the item was read from (a workbook's sheet), for messages and provenance.
+    sheet: str | None = None
+    # Schedule paths the activity lies on (durations only); none means the one default path.
+    paths: tuple[str, ...] = ()
+    # Columns of the source that no field took (Notes, Basis, Ref...), kept by header.
+    notes: dict[str, str] = field(default_factory=dict, compare=False, hash=False)
     raw: dict[str, str] = field(default_factory=dict, compare=False, hash=False)
     read_problems: tuple[Problem, ...] = field(default=(), compare=False, hash=False)
 
@@ -122,7 +128,7 @@ class CorrelationSpec:
     """How the analyst states dependence: named pairs, a coefficient shared by all items of
     a group, and a default for every other pair (0 unless set). All are rank correlations;
     a pair's coefficient wins over its group's, a group's over the default
-    (engine.correlation)."""
+    (engine.dependence.correlation)."""
 
     pairs: list[CorrelationPair] = field(default_factory=list)
     groups: dict[str, float] = field(default_factory=dict)
@@ -156,7 +162,7 @@ class Estimate:
     def problems(self) -> list[Problem]:
         """Every problem: those found while reading, then those found validating each item,
         then those in the stated correlations."""
-        from engine.correlation import spec_problems
+        from engine.dependence.correlation import spec_problems
         from engine.validation import item_problems
 
         found = list(self.read_problems)

@@ -11,7 +11,7 @@ from functools import lru_cache
 
 from scipy import special
 
-from engine.distributions import (
+from engine.families.distributions import (
     Discrete,
     Distribution,
     Fixed,
@@ -22,8 +22,8 @@ from engine.distributions import (
     Uniform,
     pert,
 )
+from engine.families.percentile_ends import NoBoundsFound, solve_bounds
 from engine.items import FAMILIES, LineItem, Problem
-from engine.percentile_ends import NoBoundsFound, solve_bounds
 
 
 class ItemInvalid(ValueError):

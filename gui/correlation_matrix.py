@@ -3,7 +3,7 @@
 A full matrix of ten thousand items would be a hundred million cells nobody can read, so the
 view shows the items that take part in a stated correlation (all items when the default is
 not 0), at most `MATRIX_LIMIT` of them, and says which ones it shows. The cells come from
-engine.correlation.build_matrix on those items, so they are the coefficients the engine uses.
+engine.dependence.correlation.build_matrix on those items, so they are the coefficients the engine uses.
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, Qt
 from PySide6.QtGui import QBrush, QColor
 
 from engine import Estimate, LineItem
-from engine.correlation import build_matrix
+from engine.dependence.correlation import build_matrix
 
 MATRIX_LIMIT = 60
 # ColorBrewer "PuOr" (Brewer & Harrower, colorbrewer2.org), listed there as colour-blind
@@ -25,7 +25,7 @@ DARK_TEXT, LIGHT_TEXT = QColor("#1f2933"), QColor("#ffffff")
 
 
 def _key(name: str) -> str:
-    return name.strip().casefold()  # names match as engine.correlation matches them
+    return name.strip().casefold()  # names match as engine.dependence.correlation matches them
 
 
 def shown_items(estimate: Estimate, limit: int = MATRIX_LIMIT) -> tuple[list[LineItem], str]:

@@ -32,7 +32,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from engine.correlation import repair_preview, spec_problems
+from engine.dependence.correlation import repair_preview, spec_problems
 from gui import correlation_commands as commands
 from gui.correlation_matrix import SCALE, MatrixModel
 from gui.item_editor import ItemEditor
@@ -64,7 +64,7 @@ def _number(text: str) -> float:
 
 
 def _key(name: str) -> str:
-    return name.strip().casefold()  # as engine.correlation matches names
+    return name.strip().casefold()  # as engine.dependence.correlation matches names
 
 
 class NameDelegate(QStyledItemDelegate):

@@ -16,7 +16,7 @@ from PySide6.QtGui import QBrush, QColor, QFont, QIcon
 from PySide6.QtWidgets import QApplication, QStyle
 
 from engine import Estimate, LineItem, Problem, build_distribution
-from engine.distributions import Distribution
+from engine.families.distributions import Distribution
 from engine.validation import ItemInvalid
 from gui.commands import Command, InsertItems, RemoveItems, Reorder, ReplaceItems
 from gui.item_text import (

@@ -57,7 +57,7 @@ class _AnalysisJob(QRunnable):
         spec = self.estimate.correlation
         if spec.is_independent or spec.accept_repair:
             return None
-        from engine.correlation import repair_preview
+        from engine.dependence.correlation import repair_preview
 
         try:
             return repair_preview(self.estimate)

@@ -20,7 +20,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout,
 )
 
-from engine.correlation import RepairPreview
+from engine.dependence.correlation import RepairPreview
 
 CHANGES_SHOWN = 5
 NOTICE_STYLE = (

@@ -9,7 +9,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from engine import Analysis, Estimate, LevelRow, LineItem, build_distribution
-from engine.verdict import compact
+from engine.shortcut.verdict import compact
 
 # Column kinds: money (in the estimate's unit), percent (a fraction, shown as %),
 # level (a confidence level in percent, shown as P80), number, text.

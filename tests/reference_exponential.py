@@ -9,7 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from engine.distributions import Continuous
+from engine.families.distributions import Continuous
 
 
 @dataclass(frozen=True)

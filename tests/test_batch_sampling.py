@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from engine.batch_sampling import BatchSampler
-from engine.distributions import (
+from engine.families.batch_sampling import BatchSampler
+from engine.families.distributions import (
     Beta,
     Discrete,
     Fixed,

@@ -7,8 +7,8 @@ import pytest
 from scipy import optimize
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, InputError, LineItem, analyze
-from engine.correlation import build_matrix, repair_preview
-from engine.nearest_correlation import is_positive_semidefinite, nearest_correlation
+from engine.dependence.correlation import build_matrix, repair_preview
+from engine.dependence.nearest_correlation import is_positive_semidefinite, nearest_correlation
 
 
 def _items(*names: str, group: str = "") -> list[LineItem]:

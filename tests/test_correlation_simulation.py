@@ -16,12 +16,12 @@ from engine import (
     InputError,
     LineItem,
     analyze,
-    parallel,
+    threads,
 )
-from engine.convolution import exact_total
-from engine.iman_conover import induce, rank_to_pearson, score_matrix, square_root
-from engine.ranking import orders
-from engine.simulation import replicate_layout
+from engine.exact.convolution import exact_total
+from engine.simulation.iman_conover import induce, rank_to_pearson, score_matrix, square_root
+from engine.simulation.ranking import orders
+from engine.simulation.replicates import replicate_layout
 from engine.validation import build_distribution
 
 Z90 = special.ndtri(0.9)
@@ -204,7 +204,7 @@ def test_correlated_run_is_the_same_on_one_lane_or_two(monkeypatch):
     # a single trial; the lanes' statistics are summed in order.
     estimate = _correlated_normals()
     two = analyze(estimate, trials=20_000, seed=3)
-    monkeypatch.setattr(parallel, "PARTS", 1)
+    monkeypatch.setattr(threads, "PARTS", 1)
     one = analyze(estimate, trials=20_000, seed=3)
     np.testing.assert_array_equal(one.total.by_replicate, two.total.by_replicate)
     np.testing.assert_allclose(one.dependence.achieved, two.dependence.achieved, rtol=1e-12)

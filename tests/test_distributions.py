@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 from scipy import integrate, special, stats
 
-from engine.distributions import (
+from engine.families.distributions import (
     Beta,
     Discrete,
     Distribution,

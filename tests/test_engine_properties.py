@@ -6,9 +6,9 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from engine.convolution import exact_total
-from engine.distributions import Fixed, Occurrence, Triangular, pert
-from engine.simulation import simulate
+from engine.exact.convolution import exact_total
+from engine.families.distributions import Fixed, Occurrence, Triangular, pert
+from engine.simulation.replicates import simulate
 
 # Levels kept off the cdf's flat stretches: with probabilities 0.5 and 0.05 a level such as
 # P50 can fall exactly between a risk event's outcomes, where any value in the gap is "the"

@@ -11,9 +11,17 @@ import pytest
 from reference_exponential import Exponential
 from scipy import optimize, stats
 
-from engine.convolution import exact_total
-from engine.distributions import Fixed, Lognormal, Normal, Occurrence, Triangular, Uniform, pert
-from engine.totals import GridTotal, PointTotal
+from engine.exact.convolution import exact_total
+from engine.exact.totals import GridTotal, PointTotal
+from engine.families.distributions import (
+    Fixed,
+    Lognormal,
+    Normal,
+    Occurrence,
+    Triangular,
+    Uniform,
+    pert,
+)
 
 Q = np.arange(1, 100) / 100  # P1..P99
 

@@ -11,7 +11,7 @@ from gui_fixtures import two_uniforms
 from scipy import stats
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, Settings
-from engine.correlation import build_matrix, repair_preview
+from engine.dependence.correlation import build_matrix, repair_preview
 from gui import correlation_commands as commands
 from gui.correlation_matrix import SCALE, MatrixModel, scale_colour, shown_items
 

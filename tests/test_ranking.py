@@ -7,8 +7,8 @@ import math
 import numpy as np
 from scipy import stats
 
-from engine.ranking import orders, random_permutations
-from engine.sample_statistics import tie_averaged_ranks
+from engine.simulation.ranking import orders, random_permutations
+from engine.simulation.sample_statistics import tie_averaged_ranks
 
 
 def test_orders_is_stable_argsort_including_ties_and_signs():

@@ -11,10 +11,11 @@ from reference_exponential import Exponential
 from scipy import optimize, special, stats
 from test_exact_total import irwin_hall_cdf, irwin_hall_ppf
 
-from engine.convolution import cumulants_of, exact_total
-from engine.diagnostics import kolmogorov_gap
-from engine.distributions import Fixed, Normal, Occurrence, Triangular, Uniform
-from engine.shortcut import (
+from engine.exact.convolution import cumulants_of, exact_total
+from engine.exact.totals import Cumulants
+from engine.families.distributions import Fixed, Normal, Occurrence, Triangular, Uniform
+from engine.shortcut.diagnostics import kolmogorov_gap
+from engine.shortcut.normal import (
     BERRY_ESSEEN_C0,
     berry_esseen_bound,
     cornish_fisher_domain,
@@ -22,7 +23,6 @@ from engine.shortcut import (
     normal_percentile,
     sum_of_item_percentiles,
 )
-from engine.totals import Cumulants
 
 LEVELS = np.array([0.01, 0.1, 0.5, 0.8, 0.9, 0.95, 0.99])
 

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from engine.convolution import exact_total
-from engine.distributions import Fixed, Lognormal, Occurrence, Triangular, Uniform, pert
-from engine.simulation import simulate
+from engine.exact.convolution import exact_total
+from engine.families.distributions import Fixed, Lognormal, Occurrence, Triangular, Uniform, pert
+from engine.simulation.replicates import simulate
 
 Q = np.arange(1, 10) / 10  # P10..P90
 

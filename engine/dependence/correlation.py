@@ -7,7 +7,7 @@ default for every other pair (0 unless set). Item and group names match ignoring
 surrounding spaces.
 
 A matrix that is not positive semi-definite states something impossible. It is repaired to
-the nearest valid correlation matrix (engine.nearest_correlation, Higham 2002) only once
+the nearest valid correlation matrix (engine.dependence.nearest_correlation, Higham 2002) only once
 the user has accepted the repair (`CorrelationSpec.accept_repair`); until then `analyze`
 refuses it and names the pairs that would change most, and `repair_preview` shows the
 window or the command line what would change.
@@ -32,14 +32,14 @@ from typing import Any
 
 import numpy as np
 
-from engine.iman_conover import pearson_to_rank, rank_to_pearson
-from engine.items import Estimate, InputError, LineItem, Problem
-from engine.nearest_correlation import (
+from engine.dependence.nearest_correlation import (
     is_positive_semidefinite,
     nearest_correlation,
     smallest_eigenvalue,
 )
-from engine.totals import Total
+from engine.exact.totals import Total
+from engine.items import Estimate, InputError, LineItem, Problem
+from engine.simulation.iman_conover import pearson_to_rank, rank_to_pearson
 
 SHEET = "Correlations"
 PEARSON_FORMULA = "r = 2 sin(pi r_s / 6) (Pearson 1907, normal copula)"

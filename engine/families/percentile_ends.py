@@ -14,7 +14,7 @@ from collections.abc import Callable
 import numpy as np
 from scipy import optimize
 
-from engine.distributions import Continuous, Triangular, pert
+from engine.families.distributions import Continuous, Triangular, pert
 
 
 class NoBoundsFound(ValueError):

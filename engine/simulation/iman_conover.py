@@ -7,7 +7,7 @@ Phi^-1(i / (n + 1)); E = corr(S) = F F' and the target P = Q Q'; T = S F'^-1 Q' 
 exactly the product-moment correlation P (the F'^-1 step removes the sample's own chance
 correlation).
 
-Each item's sample is then placed in the order of its column of T (engine.simulation draws
+Each item's sample is then placed in the order of its column of T (engine.simulation.replicates draws
 it sorted and scatters it by that order). Arrays here are (items, trials): one contiguous
 row per item, as the items are sampled.
 """
@@ -20,8 +20,8 @@ import numpy as np
 from scipy import linalg, special
 from scipy.linalg import blas
 
-from engine.ranking import orders, random_permutations
-from engine.workspace import Workspace
+from engine.simulation.ranking import orders, random_permutations
+from engine.simulation.workspace import Workspace
 
 
 def rank_to_pearson(rank: np.ndarray) -> np.ndarray:
@@ -79,7 +79,7 @@ def induce(s: np.ndarray, target_factor: np.ndarray, out: np.ndarray | None = No
 
 
 class ImanConoverPairing:
-    """The `pairing` hook of engine.simulation.simulate: for one replicate, each item's
+    """The `pairing` hook of engine.simulation.replicates.simulate: for one replicate, each item's
     trials in the order of its column of T, so every item keeps its own sample exactly
     and only the pairing changes.
 

@@ -16,7 +16,7 @@ from itertools import groupby
 import numpy as np
 from scipy import special
 
-from engine.distributions import (
+from engine.families.distributions import (
     Beta,
     Distribution,
     Lognormal,
@@ -25,8 +25,8 @@ from engine.distributions import (
     Triangular,
     Uniform,
 )
-from engine.parallel import run_split
-from engine.tabulated_inverse import TabulatedInverse
+from engine.families.tabulated_inverse import TabulatedInverse
+from engine.threads import run_split
 
 # scores (rows, n) -> values (rows, n), for the rows of one group of items
 RowSampler = Callable[[np.ndarray], np.ndarray]

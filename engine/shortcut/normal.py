@@ -15,8 +15,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-from engine.distributions import Distribution
-from engine.totals import Cumulants
+from engine.exact.totals import Cumulants
+from engine.families.distributions import Distribution
 
 
 def normal_percentile(cumulants: Cumulants, q: np.ndarray) -> np.ndarray:

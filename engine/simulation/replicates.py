@@ -5,11 +5,11 @@ and gives the batch standard errors of `SampleTotal`. Random draws never depend 
 items' parameters, so editing one item leaves every other item's draws unchanged: the
 change in the total is the edit's effect, not fresh noise. Independent items each draw from
 their own stream (child `k` of the run's seed for item `k`), all replicates at once.
-Correlation, when given, is induced within each replicate by `pairing` (engine.iman_conover):
+Correlation, when given, is induced within each replicate by `pairing` (engine.simulation.iman_conover):
 each item still draws its own design, in increasing order, and the pairing says which trial
 each of its values goes to; replicates then have streams of their own and the draws are
 (items, trials) matrices. `observe` sees each replicate's item values before they are
-summed (engine.sample_statistics gathers the drivers from them).
+summed (engine.simulation.sample_statistics gathers the drivers from them).
 """
 
 from __future__ import annotations
@@ -20,13 +20,13 @@ from functools import lru_cache
 
 import numpy as np
 
-from engine.batch_sampling import BatchSampler
-from engine.distributions import Distribution
-from engine.parallel import blas_on_one_thread, halves, run_split
+from engine.exact.totals import Cumulants, SampleTotal
+from engine.families.batch_sampling import BatchSampler
+from engine.families.distributions import Distribution
 from engine.progress import Progress
-from engine.ranking import random_permutations
-from engine.totals import Cumulants, SampleTotal
-from engine.workspace import Workspace
+from engine.simulation.ranking import random_permutations
+from engine.simulation.workspace import Workspace
+from engine.threads import blas_on_one_thread, halves, run_split
 
 REPLICATES = 20
 MIN_PER_REPLICATE = 500

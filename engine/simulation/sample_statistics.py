@@ -13,9 +13,9 @@ from functools import lru_cache
 
 import numpy as np
 
-from engine.distributions import Distribution
-from engine.parallel import PARTS
-from engine.workspace import Workspace
+from engine.families.distributions import Distribution
+from engine.simulation.workspace import Workspace
+from engine.threads import PARTS
 
 
 def tie_averaged_ranks(ascending: np.ndarray) -> np.ndarray:
@@ -43,7 +43,7 @@ def _centred_ranks(rows: int, n: int) -> np.ndarray:
 
 
 class CorrelatedSampleStatistics:
-    """The `observe` hook of engine.simulation.simulate for an Iman-Conover run.
+    """The `observe` hook of engine.simulation.replicates.simulate for an Iman-Conover run.
 
     Per replicate: the rank correlation achieved among the items' scores; each item's
     covariance with the total (var_i + sum_j cov_ij, its part in the total's variance); and

@@ -9,9 +9,9 @@ from dataclasses import asdict, dataclass
 import numpy as np
 from scipy import special
 
-from engine.distributions import Distribution
+from engine.exact.totals import GridTotal, SampleTotal, Total
+from engine.families.distributions import Distribution
 from engine.items import LineItem
-from engine.totals import GridTotal, SampleTotal, Total
 
 
 @dataclass(frozen=True)

@@ -9,11 +9,11 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import TYPE_CHECKING
 
-from engine.diagnostics import ItemDriver
+from engine.shortcut.diagnostics import ItemDriver
 
 if TYPE_CHECKING:
     from engine.analysis import Diagnostics, LevelRow
-    from engine.correlation import Dependence
+    from engine.dependence.correlation import Dependence
 
 FEW_ITEMS = 10  # common practice, no source
 DOMINANT_SHARE = 0.4  # common practice, no source

@@ -16,7 +16,7 @@ from functools import cached_property
 import numpy as np
 from scipy import special
 
-from engine.tabulated_inverse import TabulatedInverse
+from engine.families.tabulated_inverse import TabulatedInverse
 
 ArrayLike = float | np.ndarray
 
@@ -370,7 +370,7 @@ class Beta(Continuous):
         )
 
     def sample(self, u: np.ndarray) -> np.ndarray:
-        """Inverse transform from tables of the exact ppf (engine.tabulated_inverse), ~5 ms
+        """Inverse transform from tables of the exact ppf (engine.families.tabulated_inverse), ~5 ms
         to build once per item, because betaincinv costs ~100x the rest of a simulation step."""
         y = self.inverse_table(u)
         y *= self.scale

@@ -21,10 +21,10 @@ import numpy as np
 from scipy import fft as sp_fft
 from scipy import signal
 
-from engine.distributions import Beta, Distribution, Fixed, Triangular, Uniform
-from engine.parallel import run_pair
+from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total
+from engine.families.distributions import Beta, Distribution, Fixed, Triangular, Uniform
 from engine.progress import Progress
-from engine.totals import Cumulants, GridTotal, PointTotal, Total
+from engine.threads import run_pair
 
 # Grid steps per standard deviation of the total. At this resolution the percentile error
 # from the grid is ~1e-5 sd or less in every test case; the halved grid confirms it per run.

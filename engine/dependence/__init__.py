@@ -1,0 +1,1 @@
+"""Stated rank correlations: the matrix or structure, its checks and its repair."""

@@ -1,0 +1,1 @@
+"""The distribution families of the trade and their samplers."""

@@ -1,0 +1,1 @@
+"""The total by simulation: designs, pairing for rank correlation, and the lanes that run them."""
