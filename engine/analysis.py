@@ -31,6 +31,9 @@ from engine.exact.totals import Cumulants, GridTotal, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
 from engine.progress import Progress
+from engine.schedule.merge_bias import PathsSection
+from engine.schedule.paths import SchedulePath, schedule_paths
+from engine.schedule.schedule_finish import schedule_finish
 from engine.shortcut.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
 from engine.shortcut.normal import (
     BERRY_ESSEEN_C0,
@@ -127,6 +130,8 @@ class Analysis:
     # What the `normal` column is read from (the sum of the items' means and variances when
     # it differs from the total's own moments, as with correlated items); None: the total's.
     shortcut_cumulants: Cumulants | None = None
+    # A schedule of 2+ parallel paths: the total is the finish (engine.schedule).
+    paths: PathsSection | None = None
 
     @property
     def berry_esseen(self) -> float:
@@ -180,6 +185,7 @@ class Analysis:
             "sampling": self.sampling,
             "compute_seconds": self.compute_seconds,
             "dependence": None if self.dependence is None else self.dependence.to_dict(),
+            "paths": None if self.paths is None else self.paths.to_dict(),
             "percentiles": {
                 key: curve[key].tolist()
                 for key in ("percentile", "total", "normal", "normal_dependent")
@@ -210,6 +216,13 @@ def analyze(
     dists = [build_distribution(i) for i in items]
     tracker = Progress(progress, cancel)
     linked = correlated_pairs(estimate)
+    schedule = schedule_paths(items)
+    if schedule:  # the estimate names 2+ parallel paths: the total is their finish
+        return analyze_schedule(
+            estimate, items, dists, schedule, linked, tracker,
+            method=method, levels=levels, trials=trials, seed=seed, sampling=sampling,
+            tolerance=tolerance,
+        )  # fmt: skip
     if linked:
         _check_correlated_settings(method, trials, len(items), linked)
         aims = targets(estimate)
@@ -479,4 +492,65 @@ def diagnose(
         berry_esseen_constant=BERRY_ESSEEN_C0,
         cornish_fisher_monotone=domain.monotone_within(cornish_fisher_span(levels)),
         berry_esseen_applies=independent,
+    )
+
+
+def analyze_schedule(
+    estimate: Estimate,
+    items: Sequence[LineItem],
+    dists: Sequence[Distribution],
+    paths: Sequence[SchedulePath],
+    linked: int,
+    tracker: Progress,
+    *,
+    method: str,
+    levels: Sequence[float],
+    trials: int,
+    seed: int | None,
+    sampling: str,
+    tolerance: float,
+) -> Analysis:
+    """A schedule's finish beside the classic method's answer: every shortcut column reads the
+    longest-mean path alone, as that method does; the base is the longest path by point values."""
+    started = time.perf_counter()
+    pairing = None
+    if linked:
+        _check_correlated_settings(method, trials, len(items), linked)
+        pairing = ImanConoverPairing(targets(estimate).pearson_used)
+    seed_used = new_seed() if seed is None else int(seed)
+    finish, section, why = schedule_finish(
+        items, dists, paths, levels, method=method, pairing=pairing,
+        trials=trials, seed=seed_used, sampling=sampling, progress=tracker,
+    )  # fmt: skip
+    longest = next(p for p, r in zip(paths, section.rows, strict=True) if r.longest_mean)
+    on_path = [items[i] for i in longest.members]
+    path_dists = [dists[i] for i in longest.members]
+    bases = [(base_estimate([items[i] for i in p.members]), p.name) for p in paths]
+    (base, basis), base_path = max(bases, key=lambda b: b[0][0])
+    rows = level_rows(finish.total, path_dists, levels, base, tolerance, cumulants_of(path_dists))
+    drivers = item_drivers(on_path, path_dists)
+    diagnostics = diagnose(
+        on_path, path_dists, finish.total, drivers, independent=not linked, levels=levels
+    )
+    reasons = section.reasons + reasons_for(diagnostics, drivers)
+    simulated = isinstance(finish.total, SampleTotal)
+    return Analysis(
+        levels=rows,
+        total=finish.total,
+        method=finish.method,
+        method_reason=why,
+        base_estimate=base,
+        base_basis=f"the longest path by point values, '{base_path}': {basis}",
+        tolerance=tolerance,
+        drivers=drivers,
+        diagnostics=diagnostics,
+        reasons=reasons,
+        summary=summary_sentence(rows, reasons),
+        seed=seed_used if simulated else None,
+        trials=finish.total.trials if simulated else None,
+        sampling=sampling if simulated else None,
+        compute_seconds=time.perf_counter() - started,
+        item_names=[i.name for i in items],
+        shortcut_cumulants=cumulants_of(path_dists),
+        paths=section,
     )

@@ -1,0 +1,178 @@
+"""The paths beside the finish: each path's own percentiles and criticality, the merge bias
+(the finish minus the longest-mean path's normal shortcut, the classic method's answer), and
+the reasons in words.
+
+The classic method reads one path, the one with the longest mean, as if it were the whole
+schedule; every other path that might finish later is ignored, so it understates the finish
+(the merge-event bias: MacCrimmon & Ryavec, Operations Research 12, 1964).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from engine.exact.totals import Cumulants, Total
+from engine.items import LineItem
+from engine.schedule.finish import Finish
+from engine.schedule.paths import NO_PATH, SchedulePath
+from engine.shortcut.normal import normal_percentile
+from engine.shortcut.verdict import compact
+
+NEAR_LONGEST = (
+    0.05  # paths within 5% of the longest mean compete for the finish (common practice, no source)
+)
+NOTABLE_CRITICALITY = (
+    0.1  # a path that is the latest this often matters (common practice, no source)
+)
+
+
+@dataclass(frozen=True)
+class PathRow:
+    name: str
+    activities: int
+    mean: float
+    sd: float
+    values: tuple[float, ...]  # the path's own percentile at each level
+    criticality: float  # probability the path is the latest
+    criticality_se: float | None
+    longest_mean: bool
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "name": self.name,
+            "activities": self.activities,
+            "mean": self.mean,
+            "sd": self.sd,
+            "values": list(self.values),
+            "criticality": self.criticality,
+            "criticality_se": self.criticality_se,
+            "longest_mean": self.longest_mean,
+        }
+
+
+@dataclass
+class PathsSection:
+    """What `Analysis.paths` carries for a schedule: the total is the finish."""
+
+    levels: tuple[float, ...]
+    rows: list[PathRow]
+    longest: str  # the path with the longest mean: the classic method's path
+    finish: tuple[float, ...]  # the finish at each level
+    shortcut: tuple[float, ...]  # the longest-mean path's normal shortcut at each level
+    merge_bias: tuple[float, ...]  # finish minus shortcut at each level
+    finish_mean: float
+    longest_mean: float
+    shared: list[str]  # activities on two or more paths
+    method: str
+    reasons: list[str]
+    path_totals: tuple[Total, ...] = field(default=(), repr=False, compare=False)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "levels": list(self.levels),
+            "longest": self.longest,
+            "finish": list(self.finish),
+            "shortcut": list(self.shortcut),
+            "merge_bias": list(self.merge_bias),
+            "finish_mean": self.finish_mean,
+            "longest_mean": self.longest_mean,
+            "mean_merge_bias": self.finish_mean - self.longest_mean,
+            "shared": self.shared,
+            "method": self.method,
+            "reasons": self.reasons,
+            "paths": [r.to_dict() for r in self.rows],
+        }
+
+
+def longest_mean_path(path_cumulants: Sequence[Cumulants]) -> int:
+    return int(np.argmax([c.mean for c in path_cumulants]))
+
+
+def paths_section(
+    finish: Finish,
+    paths: Sequence[SchedulePath],
+    path_cumulants: Sequence[Cumulants],
+    items: Sequence[LineItem],
+    levels: Sequence[float],
+    shared: Sequence[int],
+) -> PathsSection:
+    """`path_cumulants`: each path's exact sum moments (the shortcut reads these)."""
+    q = np.asarray([float(lv) for lv in levels]) / 100
+    longest = longest_mean_path(path_cumulants)
+    shortcut = normal_percentile(path_cumulants[longest], q)
+    value = finish.total.ppf(q)
+    se = finish.criticality_se
+    rows = [
+        PathRow(
+            name=path.name,
+            activities=len(path.members),
+            mean=c.mean,
+            sd=c.sd,
+            values=tuple(float(v) for v in t.ppf(q)),
+            criticality=float(finish.criticality[k]),
+            criticality_se=None if se is None else float(se[k]),
+            longest_mean=k == longest,
+        )
+        for k, (path, c, t) in enumerate(
+            zip(paths, path_cumulants, finish.path_totals, strict=True)
+        )
+    ]
+    section = PathsSection(
+        levels=tuple(float(lv) for lv in levels),
+        rows=rows,
+        longest=paths[longest].name,
+        finish=tuple(float(v) for v in value),
+        shortcut=tuple(float(v) for v in shortcut),
+        merge_bias=tuple(float(v) for v in value - shortcut),
+        finish_mean=finish.total.mean,
+        longest_mean=path_cumulants[longest].mean,
+        shared=[items[i].name for i in shared],
+        method=finish.method,
+        reasons=[],
+        path_totals=finish.path_totals,
+    )
+    section.reasons = merge_reasons(section, paths)
+    return section
+
+
+def merge_reasons(section: PathsSection, paths: Sequence[SchedulePath]) -> list[str]:
+    """Why the finish is later than the longest path, in the order a reader needs them."""
+    rows = section.rows
+    top = section.longest_mean
+    near = [r for r in rows if top > 0 and r.mean >= (1 - NEAR_LONGEST) * top]
+    reasons = []
+    if len(near) > 1:
+        reasons.append(
+            f"{len(near)} paths within {NEAR_LONGEST:.0%} of the longest mean: the finish is "
+            "later than any one of them"
+        )
+    rivals = [r for r in rows if r not in near and r.criticality >= NOTABLE_CRITICALITY]
+    for r in sorted(rivals, key=lambda r: -r.criticality)[:3]:
+        reasons.append(
+            f"path '{r.name}' is the latest in {r.criticality:.0%} of outcomes though its mean "
+            f"is {compact(top - r.mean)} below the longest ('{section.longest}')"
+        )
+    bias = section.finish_mean - top
+    if bias > 0:
+        reasons.append(
+            f"merge bias: the finish's mean is {compact(bias)} later than the longest path's "
+            f"({compact(section.finish_mean)} against {compact(top)})"
+        )
+    if section.shared:
+        named = ", ".join(f"'{n}'" for n in section.shared[:3])
+        more = f" and {len(section.shared) - 3} more" if len(section.shared) > 3 else ""
+        reasons.append(
+            f"{named}{more} lie on several paths and tie them together, so the finish is "
+            "simulated (the paths are not independent)"
+        )
+    if any(p.name == NO_PATH for p in paths):
+        count = next(len(p.members) for p in paths if p.name == NO_PATH)
+        reasons.append(
+            f"{count} activit{'y' if count == 1 else 'ies'} name no path and form the path "
+            f"'{NO_PATH}'; name each activity's paths in the Path column, separated by ';'"
+        )
+    return reasons
