@@ -529,10 +529,12 @@ def analyze_schedule(
     (base, basis), base_path = max(bases, key=lambda b: b[0][0])
     rows = level_rows(finish.total, path_dists, levels, base, tolerance, cumulants_of(path_dists))
     drivers = item_drivers(on_path, path_dists)
+    path_total = finish.path_totals[paths.index(longest)]
     diagnostics = diagnose(
-        on_path, path_dists, finish.total, drivers, independent=not linked, levels=levels
+        on_path, path_dists, path_total, drivers, independent=not linked, levels=levels
     )
-    reasons = section.reasons + reasons_for(diagnostics, drivers)
+    alone = f"on the longest path ('{longest.name}') alone, "
+    reasons = section.reasons + [alone + r for r in reasons_for(diagnostics, drivers)]
     simulated = isinstance(finish.total, SampleTotal)
     return Analysis(
         levels=rows,

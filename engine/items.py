@@ -23,6 +23,7 @@ COLUMNS = (
     "High %",
     "Probability",
     "Group",
+    "Path",
 )
 
 

@@ -77,6 +77,13 @@ _SYNONYMS: dict[str, tuple[tuple[str, bool], ...]] = {
         ("section", True),
         ("discipline", True),
     ),
+    "Path": (
+        ("path", False),
+        ("paths", False),
+        ("schedule path", False),
+        ("chain", True),
+        ("parallel path", False),
+    ),
     "Shape": (("pert shape", False), ("shape parameter", False), ("shape factor", False)),
 }
 # Headers of an identifier column, never the item's description.

@@ -41,6 +41,7 @@ _ITEM_COLUMNS = {
     "high_pct": "High %",
     "probability": "Probability",
     "group": "Group",
+    "paths": "Path",
     "shape": "Shape",
     "values": "Most likely",
     "row": None,
@@ -146,6 +147,7 @@ def _item_document(item: LineItem) -> dict[str, Any]:
         **{f: _number_out(getattr(item, f)) for f in _OPTIONAL_NUMBERS},
         "probability": _number_out(item.probability),
         "group": item.group,
+        "paths": list(item.paths),
         "shape": _number_out(item.shape),
         "values": [[_number_out(v), _number_out(w)] for v, w in item.values],
         "row": item.row,
@@ -279,6 +281,11 @@ def _item_from(data: Any, number: int) -> LineItem:
             bad(key, value, f"a number within ±{MAX_MAGNITUDE:g}")
         else:
             fields_in[key] = number
+    paths = data.get("paths", [])
+    if isinstance(paths, list) and all(isinstance(p, str) for p in paths):
+        fields_in["paths"] = tuple(paths)
+    else:
+        bad("paths", paths, "a list of path names")
     values = data.get("values", [])
     try:
         pairs = tuple((_number_in(v), _number_in(w)) for v, w in values)

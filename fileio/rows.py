@@ -12,6 +12,7 @@ import re
 from collections.abc import Callable, Collection, Mapping
 
 from engine import LineItem, Problem
+from engine.schedule.paths import path_names
 from fileio.cells import (
     FORMULA_STARTS,
     CellError,
@@ -24,7 +25,7 @@ from fileio.cells import (
     parse_probability,
 )
 
-OPTIONAL_COLUMNS = ("Distribution", "Low %", "High %", "Probability", "Group", "Shape")
+OPTIONAL_COLUMNS = ("Distribution", "Low %", "High %", "Probability", "Group", "Shape", "Path")
 DEFAULT_SHAPE = 4.0  # the classic Beta-PERT weight on the mode (Malcolm et al. 1959)
 
 _TOTAL_NAME = re.compile(
@@ -115,6 +116,7 @@ def item_from_cells(
     )
     shape = read("Shape", lambda v: parse_number(v, decimal=decimal))
     group = unquote_formula_text(read("Group", str) or "")
+    paths = read("Path", lambda v: path_names(unquote_formula_text(v))) or ()
     return LineItem(
         name=name,
         family=family,
@@ -125,6 +127,7 @@ def item_from_cells(
         high_pct=read("High %", lambda v: parse_percentile(v, decimal=decimal)),
         probability=1.0 if probability is None else probability,
         group=group,
+        paths=paths,
         shape=DEFAULT_SHAPE if shape is None else shape,
         values=values,
         row=row,

@@ -8,8 +8,9 @@ parsers; display text is for reading.
 from __future__ import annotations
 
 from engine import LineItem
+from engine.schedule.paths import path_text
 
-# Columns of the item table, in order; the first nine are typed by the user.
+# Columns of the item table, in order; the first ten are typed by the user.
 EDIT_COLUMNS = (
     "Item",
     "Group",
@@ -20,6 +21,7 @@ EDIT_COLUMNS = (
     "Low %",
     "High %",
     "Probability",
+    "Path",
 )
 READ_ONLY_COLUMNS = ("Mean", "SD")
 TABLE_COLUMNS = EDIT_COLUMNS + READ_ONLY_COLUMNS
@@ -73,6 +75,7 @@ def item_cells(item: LineItem) -> dict[str, str]:
         "Low %": number(item.low_pct),
         "High %": number(item.high_pct),
         "Probability": probability_text(item.probability),
+        "Path": path_text(item.paths),
     }
     if item.shape != DEFAULT_SHAPE:
         cells["Shape"] = plain_number(item.shape)

@@ -10,6 +10,7 @@ import io
 from pathlib import Path
 
 from engine import COLUMNS, Estimate, LineItem
+from engine.schedule.paths import path_text
 from fileio.cells import FORMULA_STARTS
 from reports.content import discrete_text
 
@@ -54,6 +55,7 @@ def _field(item: LineItem, column: str) -> str:
         "High %": item.high_pct,
         "Probability": item.probability,
         "Group": item.group,
+        "Path": path_text(item.paths),
         "PERT shape": item.shape if item.family == "pert" else None,
     }[column]
     if value is None:

@@ -138,3 +138,17 @@ def test_report_for_each_demo(stem, tmp_path):
             tmp_path / f"report{suffix}", estimate, analysis, settings, source_path=path
         )
         assert out.stat().st_size > 1000
+
+
+def test_heat_plant_paths_merge_later_than_the_longest_path():
+    analysis = analysis_of(tool.HEATING)
+    paths = analysis.paths
+    assert paths is not None and len(paths.rows) == 4
+    assert paths.shared == ["Site mobilisation and setting-out"]
+    assert analysis.method == "simulation"
+    # the merge bias: the finish is later than the longest-mean path's normal shortcut
+    assert all(r.verdict == "understates" for r in analysis.levels)
+    assert all(b > 0 for b in paths.merge_bias)
+    assert sum(r.criticality for r in paths.rows) == pytest.approx(1.0)
+    assert all(r.criticality > 0.1 for r in paths.rows)
+    assert analysis.reasons[0].startswith("4 paths within 5% of the longest mean")

@@ -20,11 +20,13 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from engine import COLUMNS, CorrelationPair, CorrelationSpec, Estimate, LineItem  # noqa: E402
+from engine.schedule.paths import path_names  # noqa: E402
 from fileio.demo import SAMPLE_DIR  # noqa: E402
 from reports.content import discrete_text  # noqa: E402
 
-# One row: Item, Distribution, Low, Most likely, High, Low %, High %, Probability, Group.
-# A discrete item's Most likely is a tuple of (value, chance) pairs.
+# One row: Item, Distribution, Low, Most likely, High, Low %, High %, Probability, Group,
+# and for a schedule of parallel paths the Path text. A discrete item's Most likely is a
+# tuple of (value, chance) pairs.
 Row = tuple
 
 
@@ -51,7 +53,7 @@ class Scenario:
 
 
 def _item(row: Row, number: int) -> LineItem:
-    name, family, low, ml, high, low_pct, high_pct, probability, group = row
+    name, family, low, ml, high, low_pct, high_pct, probability, group, *path = row
     discrete = family == "discrete"
     return LineItem(
         name=name,
@@ -63,6 +65,7 @@ def _item(row: Row, number: int) -> LineItem:
         high_pct=high_pct,
         probability=1.0 if probability is None else probability,
         group=group,
+        paths=path_names(path[0]) if path else (),
         values=tuple(ml) if discrete else (),
         row=number,
     )
@@ -195,9 +198,35 @@ SCHEDULE = Scenario(
     ),
 )
 
+HEATING = Scenario(
+    stem="heat_plant_parallel_paths",
+    title="Demo district heating plant - four parallel paths to ready for commissioning",
+    notes=(
+        "Schedule estimate in working days. The Path column names the path(s) each activity lies on; the finish is the latest path.",
+        "Invented scenario: four paths of similar length, one shared start activity, one rare permit delay.",
+    ),
+    unit="working days",
+    teaches="parallel paths merge: the finish is later than the longest path's normal shortcut at every level",
+    rows=(
+        ("Site mobilisation and setting-out", "triangular", 8, 10, 16, _, _, _, "Start", "Civils; Boiler; Grid connection; Controls"),
+        ("Earthworks and piling", "pert", 24, 30, 44, _, _, _, "Civils", "Civils"),
+        ("Boiler house frame and cladding", "triangular", 36, 42, 56, _, _, _, "Civils", "Civils"),
+        ("Drainage and hardstanding", "uniform", 12, _, 20, _, _, _, "Civils", "Civils"),
+        ("Biomass boiler, fabrication and delivery", "lognormal", 50, _, 74, 10, 90, _, "Boiler", "Boiler"),
+        ("Boiler erection and refractory lining", "triangular", 18, 22, 32, _, _, _, "Boiler", "Boiler"),
+        ("Flue and emissions test", "pert", 6, 8, 14, _, _, _, "Boiler", "Boiler"),
+        ("Grid connection offer and design", "pert", 28, 34, 48, _, _, _, "Grid connection", "Grid connection"),
+        ("Substation works by the network operator", "triangular", 46, 52, 66, _, _, _, "Grid connection", "Grid connection"),
+        ("Risk: cable route needs a road-closure permit", "uniform", 15, _, 35, _, _, 0.08, "Grid connection", "Grid connection"),
+        ("Control system design", "triangular", 16, 20, 28, _, _, _, "Controls", "Controls"),
+        ("Panel build and factory test", "pert", 30, 34, 46, _, _, _, "Controls", "Controls"),
+        ("Software, loop checks and cause-and-effect tests", "triangular", 28, 32, 44, _, _, _, "Controls", "Controls"),
+    ),
+)
+
 # fmt: on
 
-SCENARIOS = (PLANT, FITOUT, SCHEDULE)
+SCENARIOS = (PLANT, FITOUT, SCHEDULE, HEATING)
 CSV_SCENARIO = SCHEDULE
 
 NOTES = (
@@ -231,6 +260,10 @@ NOTES = (
         "Group",
         "Optional: a cost group or work package, used in the report and for group correlations.",
     ),
+    (
+        "Path",
+        "Schedules only, optional: the parallel path(s) an activity lies on, separated by ';' (e.g. 'Civils; Controls'). With two or more paths named, the finish is the latest path; activities naming none form one path of their own. Leave blank for a cost estimate.",
+    ),
 )
 
 
@@ -240,9 +273,10 @@ def header_row() -> int:
 
 
 def cell_values(row: Row) -> list:
-    name, family, low, ml, high, low_pct, high_pct, probability, group = row
+    name, family, low, ml, high, low_pct, high_pct, probability, group, *path = row
     ml_cell = discrete_text(ml) if family == "discrete" else ml
-    return [name, family, low, ml_cell, high, low_pct, high_pct, probability, group]
+    path_cell = path[0] if path else None
+    return [name, family, low, ml_cell, high, low_pct, high_pct, probability, group, path_cell]
 
 
 def write_workbook(scenario: Scenario, path: Path) -> None:
@@ -264,7 +298,7 @@ def write_workbook(scenario: Scenario, path: Path) -> None:
                 cell.number_format = money
             if col == 8 and value is not None:
                 cell.number_format = "0%"
-    for col, width in enumerate((52, 13, 13, 34, 13, 8, 8, 12, 30), start=1):
+    for col, width in enumerate((52, 13, 13, 34, 13, 8, 8, 12, 30, 40), start=1):
         sheet.column_dimensions[get_column_letter(col)].width = width
     sheet.freeze_panes = sheet.cell(row=top + 1, column=2)
     if scenario.pairs or scenario.groups:

@@ -165,8 +165,9 @@ def merge_reasons(section: PathsSection, paths: Sequence[SchedulePath]) -> list[
     if section.shared:
         named = ", ".join(f"'{n}'" for n in section.shared[:3])
         more = f" and {len(section.shared) - 3} more" if len(section.shared) > 3 else ""
+        lie, tie = ("lies", "ties") if len(section.shared) == 1 else ("lie", "tie")
         reasons.append(
-            f"{named}{more} lie on several paths and tie them together, so the finish is "
+            f"{named}{more} {lie} on several paths and {tie} them together, so the finish is "
             "simulated (the paths are not independent)"
         )
     if any(p.name == NO_PATH for p in paths):

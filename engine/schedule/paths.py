@@ -13,6 +13,17 @@ from dataclasses import dataclass
 from engine.items import LineItem
 
 NO_PATH = "(no path)"
+PATH_SEPARATOR = ";"
+
+
+def path_names(text: str) -> tuple[str, ...]:
+    """'North; South' -> ('North', 'South'): an activity on several paths names each once."""
+    names = (part.strip() for part in text.split(PATH_SEPARATOR))
+    return tuple(dict.fromkeys(n for n in names if n))
+
+
+def path_text(paths: Sequence[str]) -> str:
+    return f"{PATH_SEPARATOR} ".join(paths)
 
 
 @dataclass(frozen=True)
