@@ -87,7 +87,7 @@ def draw_criticality(ax: Axes, analysis: Analysis) -> None:
     bars = ax.barh(
         y,
         shares,
-        height=0.6,
+        height=0.45,
         color=HISTOGRAM_FILL,
         edgecolor=[TOTAL.color if r.longest_mean else "#7b8794" for r in rows],
         linewidth=[2.0 if r.longest_mean else 0.8 for r in rows],
@@ -105,13 +105,24 @@ def draw_criticality(ax: Axes, analysis: Analysis) -> None:
             fontsize=FONT_SIZE,
             color=TEXT,
         )
-    labels = [_short(r.name) + (" (longest mean)" if r.longest_mean else "") for r in rows]
-    ax.set_yticks(y, labels, fontsize=FONT_SIZE)
+    # Names above their bars, not as tick labels: the chart often sits in a narrow pane.
+    for bar, r in zip(bars, rows, strict=True):
+        ax.annotate(
+            _short(r.name) + (" (longest mean)" if r.longest_mean else ""),
+            (0, bar.get_y() + bar.get_height()),
+            xytext=(1, 2),
+            textcoords="offset points",
+            fontsize=FONT_SIZE,
+            color=TEXT,
+            weight="bold" if r.longest_mean else "normal",
+        )
+    ax.set_yticks([])
+    ax.set_ylim(-0.6, len(rows) - 0.1)
     how = "share of trials, 95% interval" if section.method == "simulation" else "exact"
-    style_axes(ax, f"Criticality of each path ({how})")
+    style_axes(ax, f"Criticality\n({how})")
     ax.grid(False, axis="y")
     ax.set_xlim(0, max(100.0, float(shares.max()) * 1.15))
-    ax.set_xlabel("Probability of being the latest path (%)", fontsize=FONT_SIZE)
+    ax.set_xlabel("Latest path (% of outcomes)", fontsize=FONT_SIZE)
 
 
 def _short(name: str) -> str:

@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
 from engine import Analysis
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
+from gui.paths_panel import PATHS_TAB, PathsPanel
 from gui.repair_notice import RepairNotice
 
 LINKS_SHOWN = 25
@@ -136,6 +137,9 @@ class ResultsPanel(QWidget):
         self._links_index = self.tabs.addTab(self.links, LINKS_TAB)
         self.tabs.setTabToolTip(self._links_index, "Each item's rank correlation with the total")
         self.tabs.setTabVisible(self._links_index, False)
+        self.paths = PathsPanel()
+        self._paths_index = self.tabs.addTab(self.paths, PATHS_TAB)
+        self.tabs.setTabVisible(self._paths_index, False)
         self.tabs.currentChanged.connect(self._draw_current)
         self.repair = RepairNotice()
         self.reasons = QLabel(objectName="reasons", wordWrap=True)
@@ -169,6 +173,7 @@ class ResultsPanel(QWidget):
         self.repair.show_preview(None)
         self.table.show_analysis(analysis)
         self.tabs.setTabVisible(self._links_index, fill_links(self.links, analysis))
+        self.tabs.setTabVisible(self._paths_index, self.paths.show_analysis(analysis, unit))
         self.table.show()
         reasons = "".join(f"<li>{_escape(r)}</li>" for r in analysis.reasons)
         self.reasons.setText(
@@ -187,6 +192,7 @@ class ResultsPanel(QWidget):
         self.set_notices(list(notices))
         self.table.hide()
         self.tabs.setTabVisible(self._links_index, False)
+        self.tabs.setTabVisible(self._paths_index, False)
         self.reasons.setText("")
         for canvas in self.canvases:
             canvas.show_message("Nothing to show until the estimate can be computed.")

@@ -1,0 +1,104 @@
+"""The Paths tab of a schedule: the path table, the S-curves of the paths and the finish, and
+the criticality bars. Shown only when the estimate names two or more paths."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QHeaderView,
+    QLabel,
+    QSplitter,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from engine import Analysis
+from gui.chart_canvas import ChartCanvas
+
+PATHS_TAB = "Paths"
+
+
+def path_rows(analysis: Analysis) -> tuple[list[str], list[list[str]]]:
+    """Headers and cell texts of the path table (Qt-free, so it is tested without a window)."""
+    section = analysis.paths
+    if section is None:
+        return [], []
+    levels = [f"P{lv:g}" for lv in section.levels]
+    headers = ["Path", "Activities", "Mean", "SD", *levels, "Latest in"]
+    rows = []
+    for r in section.rows:
+        share = f"{100 * r.criticality:.1f}%"
+        if r.criticality_se is not None:
+            share += f" ± {196 * r.criticality_se:.1f}"
+        name = r.name + (" (longest mean)" if r.longest_mean else "")
+        numbers = [f"{v:,.1f}" for v in (r.mean, r.sd, *r.values)]
+        rows.append([name, str(r.activities), *numbers, share])
+    finish = [f"{v:,.1f}" for v in section.finish]
+    rows.append(["Finish (latest path)", "", f"{section.finish_mean:,.1f}", "", *finish, ""])
+    bias = [f"{v:+,.1f}" for v in section.merge_bias]
+    mean_bias = f"{section.finish_mean - section.longest_mean:+,.1f}"
+    rows.append(["Merge bias", "", mean_bias, "", *bias, ""])
+    return headers, rows
+
+
+class PathsPanel(QWidget):
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.table = QTableWidget(0, 0, objectName="paths")
+        self.table.verticalHeader().setVisible(False)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.curves = ChartCanvas()
+        self.criticality = ChartCanvas()
+        self.note = QLabel(objectName="paths-note", wordWrap=True)
+        charts = QSplitter(Qt.Orientation.Horizontal)
+        charts.addWidget(self.curves)
+        charts.addWidget(self.criticality)
+        charts.setSizes([620, 380])
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.note)
+        layout.addWidget(self.table)
+        layout.addWidget(charts, 1)
+
+    def show_analysis(self, analysis: Analysis, unit: str = "") -> bool:
+        """Fill the tab; False when the analysis has no paths (the tab is then hidden)."""
+        headers, rows = path_rows(analysis)
+        if not rows:
+            return False
+        self.table.setColumnCount(len(headers))
+        self.table.setHorizontalHeaderLabels(headers)
+        self.table.setRowCount(len(rows))
+        for r, row in enumerate(rows):
+            for c, text in enumerate(row):
+                cell = QTableWidgetItem(text)
+                if c:
+                    cell.setTextAlignment(
+                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+                    )
+                if r >= len(rows) - 2:
+                    font = cell.font()
+                    font.setBold(True)
+                    cell.setFont(font)
+                self.table.setItem(r, c, cell)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        for c in range(1, len(headers)):
+            header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
+        self.table.setMaximumHeight(
+            self.table.horizontalHeader().height()
+            + 4
+            + sum(self.table.rowHeight(r) for r in range(len(rows)))
+        )
+        section = analysis.paths
+        self.note.setText(
+            f"The finish is the latest of {len(section.rows)} paths ({section.method}). "
+            f"The classic method reads the longest-mean path, '{section.longest}', alone."
+        )
+        from charts.paths import draw_criticality, draw_path_s_curves
+
+        self.curves.show_chart(draw_path_s_curves, analysis, unit=unit)
+        self.criticality.show_chart(draw_criticality, analysis)
+        return True
