@@ -12,7 +12,7 @@ import math
 import time
 from collections import Counter
 from collections.abc import Callable, Sequence
-from dataclasses import asdict, dataclass, field
+from dataclasses import asdict, dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -31,7 +31,7 @@ from engine.exact.totals import Cumulants, GridTotal, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
 from engine.progress import Progress
-from engine.schedule.merge_bias import PathsSection
+from engine.schedule.merge_bias import PathsSection, shortcut_distance
 from engine.schedule.paths import SchedulePath, schedule_paths
 from engine.schedule.schedule_finish import schedule_finish
 from engine.shortcut.diagnostics import ItemDriver, NormalGap, item_drivers, kolmogorov_gap
@@ -527,12 +527,14 @@ def analyze_schedule(
     path_dists = [dists[i] for i in longest.members]
     bases = [(base_estimate([items[i] for i in p.members]), p.name) for p in paths]
     (base, basis), base_path = max(bases, key=lambda b: b[0][0])
-    rows = level_rows(finish.total, path_dists, levels, base, tolerance, cumulants_of(path_dists))
+    shortcut = cumulants_of(path_dists)
+    rows = level_rows(finish.total, path_dists, levels, base, tolerance, shortcut)
     drivers = item_drivers(on_path, path_dists)
     path_total = finish.path_totals[paths.index(longest)]
     diagnostics = diagnose(
         on_path, path_dists, path_total, drivers, independent=not linked, levels=levels
-    )
+    )  # the longest path's evidence; the distance is the finish's from that path's normal
+    diagnostics = replace(diagnostics, normal_gap=shortcut_distance(finish.total, shortcut))
     alone = f"on the longest path ('{longest.name}') alone, "
     reasons = section.reasons + [alone + r for r in reasons_for(diagnostics, drivers)]
     simulated = isinstance(finish.total, SampleTotal)
@@ -553,6 +555,6 @@ def analyze_schedule(
         sampling=sampling if simulated else None,
         compute_seconds=time.perf_counter() - started,
         item_names=[i.name for i in items],
-        shortcut_cumulants=cumulants_of(path_dists),
+        shortcut_cumulants=shortcut,
         paths=section,
     )

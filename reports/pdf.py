@@ -207,6 +207,10 @@ def write_pdf(
         *_summary_pages(analysis, about, paper, footer),
         _chart_page(analysis, about, paper, footer),
     ]
+    if getattr(analysis, "paths", None) is not None:
+        from reports.paths_report import paths_pages  # it builds on this module's pages
+
+        pages += paths_pages(analysis, about, paper, footer)
     pages += _item_pages(estimate, paper, footer)
     dependence = content.dependence_of(analysis)
     if dependence is not None:

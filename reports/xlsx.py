@@ -75,6 +75,10 @@ def write_xlsx(
     dependence = content.dependence_of(analysis)
     if dependence is not None:
         _dependence_sheet(book, dependence)
+    if getattr(analysis, "paths", None) is not None:
+        from reports.paths_report import write_paths_sheet  # it builds on this module's cells
+
+        write_paths_sheet(book, analysis, about["unit"])
     book.save(target)
 
 

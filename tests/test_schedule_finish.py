@@ -254,3 +254,16 @@ def test_base_is_the_longest_path_by_point_values_and_json_carries_the_paths() -
     data = json.loads(json.dumps(a.to_dict()))
     assert [p["name"] for p in data["paths"]["paths"]] == ["Ground", "Supply"]
     assert data["paths"]["merge_bias"][0] > 0
+
+
+def test_distance_is_the_finish_against_the_longest_paths_normal() -> None:
+    # sup_t |F_tri(t)^4 - Phi((t - 100) / sd)| on a fine grid, with the triangular's CDF and
+    # sd = sqrt(Q / 18) (Johnson, Kotz & Balakrishnan, vol. 2, triangular distribution)
+    items = [LineItem(f"A{k}", "triangular", 80, 100, 120, paths=(f"P{k}",)) for k in range(4)]
+    a = analyze(Estimate(items))
+    t = np.linspace(80, 120, 400_001)
+    tri = np.where(t <= 100, (t - 80) ** 2 / 800, 1 - (120 - t) ** 2 / 800)
+    sd = math.sqrt((80**2 + 100**2 + 120**2 - 80 * 100 - 80 * 120 - 100 * 120) / 18)
+    expected = np.max(np.abs(tri**4 - stats.norm.cdf(t, 100, sd)))
+    assert expected > 0.5 - 0.0625  # at t = 100 alone the curves are 0.4375 apart
+    assert a.diagnostics.normal_gap.distance == pytest.approx(expected, abs=1e-3)

@@ -14,11 +14,13 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from scipy import special
 
 from engine.exact.totals import Cumulants, Total
 from engine.items import LineItem
 from engine.schedule.finish import Finish
 from engine.schedule.paths import NO_PATH, SchedulePath
+from engine.shortcut.diagnostics import NormalGap, kolmogorov_gap
 from engine.shortcut.normal import normal_percentile
 from engine.shortcut.verdict import compact
 
@@ -40,6 +42,7 @@ class PathRow:
     criticality: float  # probability the path is the latest
     criticality_se: float | None
     longest_mean: bool
+    names: tuple[str, ...] = ()  # its activities, in the estimate's order
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -51,6 +54,7 @@ class PathRow:
             "criticality": self.criticality,
             "criticality_se": self.criticality_se,
             "longest_mean": self.longest_mean,
+            "activity_names": list(self.names),
         }
 
 
@@ -88,6 +92,21 @@ class PathsSection:
         }
 
 
+def shortcut_distance(finish: Total, shortcut: Cumulants, points: int = 4001) -> NormalGap:
+    """sup |F_finish(x) - Phi((x - m) / s)| with the longest path's m, s: how far the classic
+    answer's curve lies from the finish (a Kolmogorov distance), and where."""
+    if shortcut.sd <= 0:
+        return kolmogorov_gap(finish)
+    lo, hi = (float(v) for v in finish.ppf(np.array([1e-6, 1 - 1e-6])))
+    x = np.linspace(
+        min(lo, shortcut.mean - 5 * shortcut.sd), max(hi, shortcut.mean + 5 * shortcut.sd), points
+    )
+    cdf = finish.cdf(x)
+    gaps = np.abs(cdf - special.ndtr((x - shortcut.mean) / shortcut.sd))
+    i = int(np.argmax(gaps))
+    return NormalGap(float(gaps[i]), float(x[i]), float(100 * cdf[i]))
+
+
 def longest_mean_path(path_cumulants: Sequence[Cumulants]) -> int:
     return int(np.argmax([c.mean for c in path_cumulants]))
 
@@ -116,6 +135,7 @@ def paths_section(
             criticality=float(finish.criticality[k]),
             criticality_se=None if se is None else float(se[k]),
             longest_mean=k == longest,
+            names=tuple(items[i].name for i in path.members),
         )
         for k, (path, c, t) in enumerate(
             zip(paths, path_cumulants, finish.path_totals, strict=True)

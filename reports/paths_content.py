@@ -1,0 +1,69 @@
+"""What the report says about a schedule's parallel paths, independent of the file format:
+the path table, the merge table (the finish beside the classic longest-path answer) and the
+sentences around them."""
+
+from __future__ import annotations
+
+from engine import Analysis
+from reports.content import Column, Table, make_table, money_text
+
+
+def path_table(analysis: Analysis) -> Table:
+    section = analysis.paths
+    assert section is not None
+    columns = [
+        Column("Path", "text", lambda r: r.name),
+        Column("Activities", "number", lambda r: r.activities),
+        Column("Mean", "money", lambda r: r.mean),
+        Column("SD", "money", lambda r: r.sd),
+    ]
+    for k, level in enumerate(section.levels):
+        columns.append(Column(f"P{level:g} of the path", "money", lambda r, k=k: r.values[k]))
+    columns.append(Column("Latest in (criticality)", "percent", lambda r: r.criticality))
+    if section.method == "simulation":
+        columns.append(Column("Criticality standard error", "percent", lambda r: r.criticality_se))
+    columns.append(Column("Longest mean", "text", lambda r: "yes" if r.longest_mean else ""))
+    return make_table(columns, section.rows)
+
+
+def merge_table(analysis: Analysis) -> Table:
+    """Per level: the finish, the longest-mean path's normal shortcut and the merge bias."""
+    section = analysis.paths
+    assert section is not None
+    records = list(
+        zip(section.levels, section.finish, section.shortcut, section.merge_bias, strict=True)
+    )
+    return make_table(
+        [
+            Column("Level", "level", lambda r: r[0]),
+            Column("Finish (latest path)", "money", lambda r: r[1]),
+            Column(f"Normal shortcut of '{section.longest}'", "money", lambda r: r[2]),
+            Column("Merge bias (finish - shortcut)", "money", lambda r: r[3]),
+            Column("Merge bias %", "percent", lambda r: r[3] / r[2] if r[2] else None),
+        ],
+        records,
+    )
+
+
+def path_lines(analysis: Analysis, unit: str = "") -> list[str]:
+    """The sentences above the tables."""
+    section = analysis.paths
+    assert section is not None
+    lines = [
+        f"Each path is the sum of its activities. Method: {section.method}; "
+        f"{analysis.method_reason}.",
+        f"The classic method reads the path with the longest mean, '{section.longest}', alone, "
+        "as a normal curve; the merge bias is how much later the finish is.",
+        f"Mean finish {money_text(section.finish_mean, unit)} against the longest path's mean "
+        f"{money_text(section.longest_mean, unit)}.",
+    ]
+    if section.shared:
+        lines.append("Activities on several paths: " + ", ".join(section.shared) + ".")
+    return lines
+
+
+def membership_lines(analysis: Analysis) -> list[str]:
+    """Each path and its activities, so a reader can check what the finish was built from."""
+    section = analysis.paths
+    assert section is not None
+    return [f"{r.name}: {'; '.join(r.names)}" for r in section.rows]
