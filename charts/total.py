@@ -33,11 +33,20 @@ def method_label(analysis: Analysis) -> str:
     return "Total, exact"
 
 
+def shortcut_moments(analysis: Analysis) -> tuple[float, float]:
+    """The normal curve drawn: a schedule's is the longest path's (its level table's Normal
+    column), not a normal fitted to the finish."""
+    if analysis.paths is not None and analysis.shortcut_cumulants is not None:
+        return analysis.shortcut_cumulants.mean, analysis.shortcut_cumulants.sd
+    return analysis.total.mean, analysis.total.sd
+
+
 def draw_s_curve(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     """Cumulative probability against the total; levels marked on both curves."""
     q = np.linspace(SHOWN[0], SHOWN[1], 600)
     total = analysis.total.ppf(q)
-    normal = analysis.total.mean + analysis.total.sd * special.ndtri(q)
+    mean, sd = shortcut_moments(analysis)
+    normal = mean + sd * special.ndtri(q)
     (line,) = ax.plot(total, 100 * q, color=TOTAL.color, ls=TOTAL.linestyle, lw=TOTAL.linewidth)
     line.set(label=method_label(analysis), gid="total")
     (line,) = ax.plot(normal, 100 * q, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
@@ -115,10 +124,11 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
             gid="total",
             label="Total (no uncertainty)",
         )
-    if total.sd > 0:
-        x = np.linspace(min(lo, total.mean - 4 * total.sd), max(hi, total.mean + 4 * total.sd), 400)
-        z = (x - total.mean) / total.sd
-        pdf = np.exp(-0.5 * z * z) / (total.sd * np.sqrt(2 * np.pi))
+    mean, sd = shortcut_moments(analysis)
+    if sd > 0:
+        x = np.linspace(min(lo, mean - 4 * sd), max(hi, mean + 4 * sd), 400)
+        z = (x - mean) / sd
+        pdf = np.exp(-0.5 * z * z) / (sd * np.sqrt(2 * np.pi))
         (line,) = ax.plot(x, pdf, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
         line.set(label="Normal shortcut", gid="normal")
     for r in analysis.levels:
