@@ -4,6 +4,7 @@ the CSV export and shown in the window's table, so a schedule's paths survive ev
 from __future__ import annotations
 
 import csv
+import json
 from pathlib import Path
 
 import pytest
@@ -79,3 +80,14 @@ def test_paths_round_trip_through_project_csv_and_table(tmp_path: Path) -> None:
 def test_path_text_and_names_are_inverse() -> None:
     assert path_names(path_text(("A", "B c"))) == ("A", "B c")
     assert path_names(" ; ;") == ()
+
+
+def test_project_paths_of_the_wrong_kind_make_a_draft(tmp_path: Path) -> None:
+    path = tmp_path / "bad.rangefold"
+    save_project(path, Estimate([LineItem("Dig", "triangular", 1, 2, 3, paths=("A",))]), Settings())
+    document = json.loads(path.read_text("utf-8"))
+    document["items"][0]["paths"] = "A; B"  # a string, not a list
+    path.write_text(json.dumps(document), "utf-8")
+    loaded, _ = load_project(path)
+    problem = loaded.items[0].read_problems[0]
+    assert problem.column == "Path" and loaded.items[0].raw["Path"] == "A; B"
