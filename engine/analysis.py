@@ -44,7 +44,7 @@ from engine.shortcut.normal import (
     normal_percentile,
     sum_of_item_percentiles,
 )
-from engine.shortcut.verdict import reasons_for, summary_sentence
+from engine.shortcut.verdict import dependence_reasons, reasons_for, summary_sentence
 from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
@@ -513,13 +513,13 @@ def analyze_schedule(
     """A schedule's finish beside the classic method's answer: every shortcut column reads the
     longest-mean path alone, as that method does; the base is the longest path by point values."""
     started = time.perf_counter()
-    pairing = None
+    aims = None
     if linked:
         _check_correlated_settings(method, trials, len(items), linked)
-        pairing = ImanConoverPairing(targets(estimate).pearson_used)
+        aims = targets(estimate)
     seed_used = new_seed() if seed is None else int(seed)
-    finish, section, why = schedule_finish(
-        items, dists, paths, levels, method=method, pairing=pairing,
+    finish, section, why, dependence = schedule_finish(
+        items, dists, paths, levels, method=method, aims=aims,
         trials=trials, seed=seed_used, sampling=sampling, progress=tracker,
     )  # fmt: skip
     longest = next(p for p, r in zip(paths, section.rows, strict=True) if r.longest_mean)
@@ -528,7 +528,7 @@ def analyze_schedule(
     bases = [(base_estimate([items[i] for i in p.members]), p.name) for p in paths]
     (base, basis), base_path = max(bases, key=lambda b: b[0][0])
     shortcut = cumulants_of(path_dists)
-    rows = level_rows(finish.total, path_dists, levels, base, tolerance, shortcut)
+    rows = level_rows(finish.total, path_dists, levels, base, tolerance, shortcut, dependence)
     drivers = item_drivers(on_path, path_dists)
     path_total = finish.path_totals[paths.index(longest)]
     diagnostics = diagnose(
@@ -536,7 +536,8 @@ def analyze_schedule(
     )  # the longest path's evidence; the distance is the finish's from that path's normal
     diagnostics = replace(diagnostics, normal_gap=shortcut_distance(finish.total, shortcut))
     alone = f"on the longest path ('{longest.name}') alone, "
-    reasons = section.reasons + [alone + r for r in reasons_for(diagnostics, drivers)]
+    reasons = section.reasons + ([] if dependence is None else dependence_reasons(dependence))
+    reasons += [alone + r for r in reasons_for(diagnostics, drivers)]
     simulated = isinstance(finish.total, SampleTotal)
     return Analysis(
         levels=rows,
@@ -555,6 +556,7 @@ def analyze_schedule(
         sampling=sampling if simulated else None,
         compute_seconds=time.perf_counter() - started,
         item_names=[i.name for i in items],
+        dependence=dependence,
         shortcut_cumulants=shortcut,
         paths=section,
     )

@@ -267,3 +267,31 @@ def test_distance_is_the_finish_against_the_longest_paths_normal() -> None:
     expected = np.max(np.abs(tri**4 - stats.norm.cdf(t, 100, sd)))
     assert expected > 0.5 - 0.0625  # at t = 100 alone the curves are 0.4375 apart
     assert a.diagnostics.normal_gap.distance == pytest.approx(expected, abs=1e-3)
+
+
+def test_correlated_schedule_keeps_the_correlation_record() -> None:
+    # Two activities on each of two paths, correlated within each path: the normal shortcut
+    # with covariances is the longest path's, Var = sum_ij r_ij s_i s_j (correlated normals)
+    # with r = 2 sin(pi r_s / 6) (Pearson 1907); "if independent" is the exact finish.
+    items = [
+        normal_item("N1", 50, 6, "North"),
+        normal_item("N2", 52, 8, "North"),
+        normal_item("S1", 49, 7, "South"),
+        normal_item("S2", 50, 5, "South"),
+    ]
+    spec = CorrelationSpec(pairs=[CorrelationPair("N1", "N2", 0.5)])
+    a = analyze(Estimate(items, correlation=spec), trials=100_000, seed=9)
+    dep = a.dependence
+    assert dep is not None and dep.achieved_max_deviation < 0.02
+    r = 2 * math.sin(math.pi * 0.5 / 6)
+    assert dep.shortcut_variance == pytest.approx(36 + 64 + 2 * r * 48, rel=1e-9)
+    independent = analyze(Estimate(items))
+    for row, plain in zip(a.levels, independent.levels, strict=True):
+        assert row.independent_value == pytest.approx(plain.value, abs=1e-9)
+        q = row.level / 100
+        assert row.normal_dependent == pytest.approx(
+            102 + math.sqrt(dep.shortcut_variance) * stats.norm.ppf(q), abs=1e-9
+        )
+    # correlation within North widens it, so the finish's sd grows
+    assert dep.sd_dependent > dep.sd_independent
+    assert any("correlation widens" in reason for reason in a.reasons)

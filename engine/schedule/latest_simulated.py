@@ -21,6 +21,7 @@ from engine.progress import Progress
 from engine.schedule.finish import Finish
 from engine.schedule.paths import SchedulePath
 from engine.simulation.replicates import (
+    Observer,
     Pairing,
     item_streams,
     replicate_layout,
@@ -38,8 +39,11 @@ def simulated_finish(
     seed: int,
     sampling: str = "lhs",
     pairing: Pairing | None = None,
+    observe: Observer | None = None,
     progress: Progress | None = None,
 ) -> Finish:
+    """`observe` (with `pairing` only) also sees each replicate, e.g. to gather the
+    correlations achieved."""
     progress = progress or Progress()
     membership = np.zeros((len(paths), len(dists)))
     for p, path in enumerate(paths):
@@ -47,7 +51,9 @@ def simulated_finish(
     if pairing is None:
         sums = _independent_path_sums(dists, membership, trials, seed, sampling, progress)
     else:
-        sums = _paired_path_sums(dists, membership, trials, seed, sampling, pairing, progress)
+        sums = _paired_path_sums(
+            dists, membership, trials, seed, sampling, pairing, observe, progress
+        )
     # sums: (paths, replicates, trials per replicate)
     latest = sums.max(axis=0)
     ties = sums == latest
@@ -94,13 +100,16 @@ def _paired_path_sums(
     seed: int,
     sampling: str,
     pairing: Pairing,
+    also: Observer | None,
     progress: Progress,
 ) -> np.ndarray:
     """The correlated simulation, observed: each replicate's activity values summed by path."""
     by_lane: dict[int, list[np.ndarray]] = {}
 
-    def observe(lane: int, values: np.ndarray, _total: np.ndarray, _positions) -> None:
+    def observe(lane: int, values: np.ndarray, total: np.ndarray, positions: np.ndarray) -> None:
         by_lane.setdefault(lane, []).append(membership @ values)
+        if also is not None:
+            also(lane, values, total, positions)
 
     simulate(
         dists,

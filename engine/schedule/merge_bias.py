@@ -107,8 +107,9 @@ def shortcut_distance(finish: Total, shortcut: Cumulants, points: int = 4001) ->
     return NormalGap(float(gaps[i]), float(x[i]), float(100 * cdf[i]))
 
 
-def longest_mean_path(path_cumulants: Sequence[Cumulants]) -> int:
-    return int(np.argmax([c.mean for c in path_cumulants]))
+def longest_index(means: Sequence[float]) -> int:
+    """The classic method's path: the longest mean (the first named on a tie)."""
+    return int(np.argmax(means))
 
 
 def paths_section(
@@ -121,7 +122,7 @@ def paths_section(
 ) -> PathsSection:
     """`path_cumulants`: each path's exact sum moments (the shortcut reads these)."""
     q = np.asarray([float(lv) for lv in levels]) / 100
-    longest = longest_mean_path(path_cumulants)
+    longest = longest_index([c.mean for c in path_cumulants])
     shortcut = normal_percentile(path_cumulants[longest], q)
     value = finish.total.ppf(q)
     se = finish.criticality_se

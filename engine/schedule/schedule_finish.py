@@ -7,18 +7,25 @@ every trial takes the latest path.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
+import numpy as np
+
+from engine.dependence.correlation import Dependence, Targets, achieved_against
 from engine.exact.convolution import cumulants_of, exact_total
+from engine.exact.totals import Total
 from engine.families.distributions import Distribution
 from engine.items import InputError, LineItem, Problem
 from engine.progress import Progress
 from engine.schedule.finish import Finish
 from engine.schedule.latest_exact import latest_of
 from engine.schedule.latest_simulated import simulated_finish
-from engine.schedule.merge_bias import PathsSection, paths_section
+from engine.schedule.merge_bias import PathsSection, longest_index, paths_section
 from engine.schedule.paths import SchedulePath, shared_activities
-from engine.simulation.replicates import Pairing
+from engine.shortcut.normal import correlated_normal_variance
+from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.sample_statistics import CorrelatedSampleStatistics
 
 
 def schedule_finish(
@@ -28,45 +35,62 @@ def schedule_finish(
     levels: Sequence[float],
     *,
     method: str,
-    pairing: Pairing | None,
+    aims: Targets | None,
     trials: int,
     seed: int,
     sampling: str,
     progress: Progress,
-) -> tuple[Finish, PathsSection, str]:
-    """The finish, the paths section, and why the method was chosen."""
+) -> tuple[Finish, PathsSection, str, Dependence | None]:
+    """The finish, the paths section, why the method was chosen, and with correlated
+    activities (`aims`) the record of what the correlation did."""
     shared = shared_activities(paths)
     path_dists = [[dists[i] for i in p.members] for p in paths]
     intro = f"the finish is the latest of {len(paths)} paths"
     if shared and method == "exact":
+        first = items[shared[0]]
+        count = f"{len(shared)} shared activit{'y' if len(shared) == 1 else 'ies'}"
         raise InputError(
             [
                 Problem(
-                    f"exact needs independent paths, and {items[shared[0]].name!r} lies on "
-                    f"several paths ({len(shared)} shared activit{'y' if len(shared) == 1 else 'ies'}).",
+                    f"exact needs independent paths, and {first.name!r} lies on several "
+                    f"paths ({count}).",
                     "use auto or simulation, or put each activity on one path.",
-                    item=items[shared[0]].name,
-                    row=items[shared[0]].row,
+                    item=first.name,
+                    row=first.row,
                     column="Path",
                 )
             ]
         )
-    if pairing is not None or shared or method == "simulation":
+    dependence = None
+    if aims is not None or shared or method == "simulation":
         if method == "simulation":
             why = "simulation was chosen in the settings"
-        elif pairing is not None:
+        elif aims is not None:
             why = "activities are correlated (induced by Iman-Conover)"
         else:
             why = f"{len(shared)} activit{'y lies' if len(shared) == 1 else 'ies lie'} on several paths"
-        finish = simulated_finish(
-            dists,
-            paths,
-            trials=trials,
-            seed=seed,
-            sampling=sampling,
-            pairing=pairing,
-            progress=progress,
-        )
+        run = {"trials": trials, "seed": seed, "sampling": sampling}
+        if aims is None:
+            finish = simulated_finish(dists, paths, **run, progress=progress)
+        else:
+            stats = CorrelatedSampleStatistics(dists)
+            finish = simulated_finish(
+                dists,
+                paths,
+                **run,
+                pairing=ImanConoverPairing(aims.pearson_used),
+                observe=stats,
+                progress=progress.part(0, 0.8),
+            )
+            # The same paths with every coefficient 0: exact unless activities are shared.
+            independent = (
+                simulated_finish(dists, paths, **run, progress=progress.part(0.8, 0.2)).total
+                if shared
+                else latest_of(
+                    [exact_total(d, progress=progress.silent()) for d in path_dists]
+                ).total
+            )
+            dependence = path_dependence(aims, stats, finish, independent, dists, paths)
         why = f"{intro}, simulated with the latest path taken in each trial: {why}"
     else:
         totals = []
@@ -79,4 +103,32 @@ def schedule_finish(
             "exact: the product of the paths' exact distributions"
         )
     cumulants = [cumulants_of(d) for d in path_dists]
-    return finish, paths_section(finish, paths, cumulants, items, levels, shared), why
+    section = paths_section(finish, paths, cumulants, items, levels, shared)
+    return finish, section, why, dependence
+
+
+def path_dependence(
+    aims: Targets,
+    stats: CorrelatedSampleStatistics,
+    finish: Finish,
+    independent: Total,
+    dists: Sequence[Distribution],
+    paths: Sequence[SchedulePath],
+) -> Dependence:
+    """The correlation record, read for a schedule: its shortcut variance is the longest-mean
+    path's with covariances (the classic method's path), its totals are finishes."""
+    means = [math.fsum(dists[i].mean for i in p.members) for p in paths]
+    on_longest = list(paths[longest_index(means)].members)
+    sds = np.array([dists[i].sd for i in on_longest])
+    deviation, worst = achieved_against(aims, stats.achieved)
+    return Dependence(
+        **vars(aims),
+        achieved=stats.achieved,
+        achieved_max_deviation=deviation,
+        worst_achieved=worst,
+        shortcut_variance=correlated_normal_variance(
+            sds, aims.pearson_used[np.ix_(on_longest, on_longest)]
+        ),
+        sd_dependent=finish.total.sd,
+        independent_total=independent,
+    )
