@@ -550,7 +550,9 @@ def analyze_schedule(
         drivers=drivers,
         diagnostics=diagnostics,
         reasons=reasons,
-        summary=summary_sentence(rows, reasons),
+        summary=summary_sentence(rows, reasons).replace(
+            "The normal shortcut", "The longest path's normal shortcut", 1
+        ),
         seed=seed_used if simulated else None,
         trials=finish.total.trials if simulated else None,
         sampling=sampling if simulated else None,

@@ -62,8 +62,19 @@ def path_lines(analysis: Analysis, unit: str = "") -> list[str]:
     return lines
 
 
-def membership_lines(analysis: Analysis) -> list[str]:
-    """Each path and its activities, so a reader can check what the finish was built from."""
+def activity_table(analysis: Analysis) -> Table:
+    """Each activity, the paths it lies on, and how often it is on the latest path."""
     section = analysis.paths
     assert section is not None
-    return [f"{r.name}: {'; '.join(r.names)}" for r in section.rows]
+    records = [
+        (name, "; ".join(r.name for r in section.rows if name in r.names), share)
+        for name, share in section.activity_criticality
+    ]
+    return make_table(
+        [
+            Column("Activity", "text", lambda r: r[0]),
+            Column("Paths", "text", lambda r: r[1]),
+            Column("On the latest path (criticality index)", "percent", lambda r: r[2]),
+        ],
+        records,
+    )

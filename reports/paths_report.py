@@ -10,7 +10,7 @@ from openpyxl.chart import BarChart, Reference
 
 from charts.paths import draw_criticality, draw_path_s_curves
 from engine import Analysis
-from reports.paths_content import membership_lines, merge_table, path_lines, path_table
+from reports.paths_content import activity_table, merge_table, path_lines, path_table
 from reports.pdf import Flow, Page
 from reports.xlsx import BOLD, put, put_table
 
@@ -31,9 +31,10 @@ def paths_pages(analysis: Analysis, about: dict[str, Any], paper: str, footer: s
     for reason in analysis.paths.reasons:
         flow.text("- " + reason + ".", size=8, indent=0.1)
     flow.gap()
-    flow.text("Activities on each path", size=10, weight="bold")
-    for line in membership_lines(analysis):
-        flow.text(line, size=7.5, indent=0.1)
+    flow.text(
+        "Activities: their paths and how often they are on the latest", size=10, weight="bold"
+    )
+    flow.table(activity_table(analysis), size=6.8, widths=[3.0, 2.4, 1.6])
     charts = Page(paper, footer)
     charts.text("Parallel paths: charts", size=14, weight="bold")
     top = 1 - (charts.y + 0.3) / charts.height
@@ -75,10 +76,8 @@ def write_paths_sheet(book: Workbook, analysis: Analysis, unit: str) -> None:
         row += 1
         put(sheet, row, 1, reason[0].upper() + reason[1:] + ".")
     row += 2
-    put(sheet, row, 1, "Activities on each path").font = BOLD
-    for line in membership_lines(analysis):
-        row += 1
-        put(sheet, row, 1, line)
+    put(sheet, row, 1, "Activities: their paths and how often they are on the latest").font = BOLD
+    row = put_table(sheet, row + 1, activity_table(analysis))
     sheet.add_chart(bars, f"A{row + 2}")
     sheet.column_dimensions["A"].width = 34
     for col in "BCDEFGHIJ":

@@ -295,3 +295,18 @@ def test_correlated_schedule_keeps_the_correlation_record() -> None:
     # correlation within North widens it, so the finish's sd grows
     assert dep.sd_dependent > dep.sd_independent
     assert any("correlation widens" in reason for reason in a.reasons)
+
+
+def test_activity_criticality_sums_its_paths() -> None:
+    # Four identical independent paths after a shared start: each path is the latest with
+    # probability 1/4 by symmetry, so the start is always critical and each branch 1/4
+    # (criticality index, Van Slyke, Operations Research 11, 1963).
+    items = [LineItem("Start", "triangular", 5, 6, 9, paths=("A", "B", "C", "D"))] + [
+        LineItem(f"Branch {p}", "triangular", 80, 100, 120, paths=(p,)) for p in "ABCD"
+    ]
+    a = analyze(Estimate(items), trials=100_000, seed=12)
+    index = dict(a.paths.activity_criticality)
+    assert index["Start"] == pytest.approx(1.0)
+    for p, row in zip("ABCD", a.paths.rows, strict=True):
+        assert index[f"Branch {p}"] == pytest.approx(0.25, abs=5 * row.criticality_se)
+    assert a.summary.startswith("The longest path's normal shortcut understates P50")

@@ -71,6 +71,10 @@ class PathsSection:
     finish_mean: float
     longest_mean: float
     shared: list[str]  # activities on two or more paths
+    # (activity, probability it lies on the latest path): the sum of its paths' criticality,
+    # since "path k is the latest" are exclusive events (Van Slyke, Operations Research 11,
+    # 1963, the criticality index); highest first
+    activity_criticality: list[tuple[str, float]]
     method: str
     reasons: list[str]
     path_totals: tuple[Total, ...] = field(default=(), repr=False, compare=False)
@@ -86,6 +90,7 @@ class PathsSection:
             "longest_mean": self.longest_mean,
             "mean_merge_bias": self.finish_mean - self.longest_mean,
             "shared": self.shared,
+            "activity_criticality": [list(pair) for pair in self.activity_criticality],
             "method": self.method,
             "reasons": self.reasons,
             "paths": [r.to_dict() for r in self.rows],
@@ -152,12 +157,23 @@ def paths_section(
         finish_mean=finish.total.mean,
         longest_mean=path_cumulants[longest].mean,
         shared=[items[i].name for i in shared],
+        activity_criticality=activity_criticality(paths, finish.criticality, items),
         method=finish.method,
         reasons=[],
         path_totals=finish.path_totals,
     )
     section.reasons = merge_reasons(section, paths)
     return section
+
+
+def activity_criticality(
+    paths: Sequence[SchedulePath], criticality: np.ndarray, items: Sequence[LineItem]
+) -> list[tuple[str, float]]:
+    index = np.zeros(len(items))
+    for path, share in zip(paths, criticality, strict=True):
+        index[list(path.members)] += share
+    order = sorted(range(len(items)), key=lambda i: -index[i])
+    return [(items[i].name, float(min(index[i], 1.0))) for i in order]
 
 
 def merge_reasons(section: PathsSection, paths: Sequence[SchedulePath]) -> list[str]:
