@@ -310,3 +310,19 @@ def test_activity_criticality_sums_its_paths() -> None:
     for p, row in zip("ABCD", a.paths.rows, strict=True):
         assert index[f"Branch {p}"] == pytest.approx(0.25, abs=5 * row.criticality_se)
     assert a.summary.startswith("The longest path's normal shortcut understates P50")
+
+
+@pytest.mark.parametrize("method", ["exact", "simulation"])
+def test_a_fixed_path_inside_another_paths_range(method: str) -> None:
+    # max(100, U(90, 110)): a point mass 1/2 at 100, then uniform; mean
+    # 0.5 * 100 + 0.5 * 105 = 102.5, P80 = 106; each path the latest half the time
+    # (closed form of the maximum of a constant and a uniform)
+    items = [
+        LineItem("Fixed leg", "fixed", most_likely=100, paths=("A",)),
+        LineItem("Variable leg", "uniform", 90, None, 110, paths=("B",)),
+    ]
+    a = analyze(Estimate(items), levels=(25, 50, 80), method=method, seed=3)
+    assert [r.value for r in a.levels] == pytest.approx([100, 100, 106], abs=1e-3)
+    assert a.total.mean == pytest.approx(102.5, abs=0.02)
+    assert [r.criticality for r in a.paths.rows] == pytest.approx([0.5, 0.5], abs=0.005)
+    assert float(a.total.cdf(100.0)) == pytest.approx(0.5, abs=0.001)

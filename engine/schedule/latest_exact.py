@@ -26,14 +26,17 @@ def latest_of(path_totals: Sequence[Total]) -> Finish:
         return Finish(PointTotal(hi), totals, latest / latest.sum(), None, "exact")
     steps = [t.step for t in totals if isinstance(t, GridTotal)]
     step = max(min(steps), (hi - lo) / MAX_CELLS)
-    cells = math.ceil((hi - lo) / step)
-    edges = lo + np.arange(cells + 1) * step
+    # Cells centred on lo, origin + k * step: a path fixed at lo (a point mass where the
+    # finish starts) falls inside the first cell rather than on its edge, so its chance of
+    # being the latest and the finish's jump there are both kept.
+    cells = math.ceil((hi - lo) / step + 0.5)
+    edges = lo - step / 2 + np.arange(cells + 1) * step
     cdfs = np.clip(np.array([t.cdf(edges) for t in totals]), 0.0, 1.0)
     cdfs[:, -1] = 1.0  # hi is every path's upper end; mass beyond it was folded there
     finish_cdf = np.prod(cdfs, axis=0)
     masses = np.diff(finish_cdf)
     masses[0] += finish_cdf[0]
-    origin = lo + step / 2
+    origin = lo
     bound = max((t.error_bound for t in totals if isinstance(t, GridTotal)), default=0.0)
     total = GridTotal(
         origin,
