@@ -77,9 +77,10 @@ _SYNONYMS: dict[str, tuple[tuple[str, bool], ...]] = {
         ("section", True),
         ("discipline", True),
     ),
+    # Exact only: "File path" or "On critical path?" in a cost sheet must not make it a schedule.
     "Path": (
-        ("path", False),
-        ("paths", False),
+        ("path", True),
+        ("paths", True),
         ("schedule path", False),
         ("chain", True),
         ("parallel path", False),

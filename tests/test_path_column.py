@@ -91,3 +91,16 @@ def test_project_paths_of_the_wrong_kind_make_a_draft(tmp_path: Path) -> None:
     loaded, _ = load_project(path)
     problem = loaded.items[0].read_problems[0]
     assert problem.column == "Path" and loaded.items[0].raw["Path"] == "A; B"
+
+
+def test_a_longer_header_with_path_in_it_is_not_the_path_column(tmp_path: Path) -> None:
+    # A cost sheet's "On critical path?" (Y/N) must not turn the estimate into a schedule.
+    book = Workbook()
+    sheet = book.active
+    sheet.append(["Item", "Low", "Most likely", "High", "On critical path?", "Drawing file path"])
+    sheet.append(["Pumps", 10, 12, 15, "Y", "C:/drawings/p1.pdf"])
+    sheet.append(["Valves", 4, 5, 7, "N", "C:/drawings/v1.pdf"])
+    book.save(tmp_path / "cost.xlsx")
+    estimate = read_estimate(tmp_path / "cost.xlsx")
+    assert all(i.paths == () for i in estimate.items)
+    assert analyze(estimate).paths is None
