@@ -1,0 +1,210 @@
+"""E[X_i | T = t] for independent items, exactly on a lattice, at a few totals t.
+
+On a common grid of step h each item is a lattice of hat-function masses p_i[k] (the exact
+machinery's `item_lattice`: means kept, point masses on grid points). For a grid point t,
+
+    E[X_i | T = t] = c_i + sum_k (k - c_i) h p_i[k] O_i[t - k] / sum_k p_i[k] O_i[t - k],
+
+where O_i is the lattice of the sum of every other item and c_i the grid point nearest the
+item's mean (it keeps the numbers small). Summed over items the numerators are (t - sum c_i)
+times the total's mass at t, so the shares add up to t by construction, not by scaling.
+
+The leave-one-out lattices O_i are never formed whole. The items' sums are merged in a
+balanced tree; walking down it, a node's "outside" (the sum of every item not under it) is
+its parent's outside convolved with its sibling, and only the window t - (the node's
+support) is ever needed: as wide as the node's own lattice, for each wanted t. The work is
+about that of the total's own convolution, whatever the number of items. A total between
+two grid points gets the linear interpolation of its neighbours' conditional means, which
+still adds up to t exactly.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from scipy import signal
+
+from engine.exact.convolution import aligned_step, item_lattice
+from engine.families.distributions import Distribution, Fixed
+from engine.progress import Progress
+
+# Grid steps per standard deviation of the total. The conditional mean is smooth in t, so a
+# coarser grid than the total's own is enough; tests/test_allocation_exact.py measures it.
+RESOLUTION = 1000
+# Mass dropped from each tail of a partial sum: it cannot reach the totals that are read.
+NEGLIGIBLE = 1e-16
+# Below this mass at a grid point the total is not conditioned there.
+NO_MASS = 1e-250
+# Product of two lengths above which convolution goes by FFT.
+DIRECT_LIMIT = 500_000
+
+
+class Node:
+    """A partial sum of items: its lattice (first grid index, masses) and its two halves."""
+
+    __slots__ = ("children", "index", "masses", "start", "weighted")
+
+    def __init__(self, start: int, masses: np.ndarray, children: tuple[Node, Node] | None):
+        self.start, self.masses, self.children = start, masses, children
+        self.weighted = np.zeros(0)  # a leaf's (k - c_i) p_i[k]
+        self.index = 0  # a leaf's place among the items
+
+    @property
+    def stop(self) -> int:
+        return self.start + len(self.masses) - 1
+
+
+def conditional_means(
+    dists: Sequence[Distribution],
+    totals: Sequence[float],
+    *,
+    resolution: int = RESOLUTION,
+    progress: Progress | None = None,
+) -> np.ndarray:
+    """(items, totals): E[X_i | T = t] for each total t."""
+    progress = progress or Progress()
+    out = np.empty((len(dists), len(totals)))
+    certain = {k for k, d in enumerate(dists) if isinstance(d, Fixed) or d.variance <= 0}
+    for k in certain:
+        out[k] = dists[k].mean
+    uncertain = [k for k in range(len(dists)) if k not in certain]
+    if not uncertain:
+        return out
+    shift = math.fsum(dists[k].mean for k in certain)
+    parts = [dists[k] for k in uncertain]
+    step = aligned_step(parts, math.sqrt(math.fsum(d.variance for d in parts)) / resolution)
+    leaves = []
+    for d in parts:
+        start, masses, _ = item_lattice(d, step)
+        leaf = Node(start, masses, None)
+        centre = round(d.mean / step)
+        leaf.weighted = (np.arange(start, start + len(masses)) - centre) * masses
+        leaves.append((leaf, centre))
+    points, weights = _grid_neighbours(np.asarray(totals, dtype=float) - shift, step)
+    root = _merge_tree([leaf for leaf, _ in leaves])
+    ratios = _leaf_ratios(root, points.ravel(), progress)  # in leaf order, (items, points)
+    masses = _masses_at(root, points.ravel()).reshape(weights.shape)
+    # A neighbour of a total with no mass (between point masses) is not read.
+    weights = np.where(masses > NO_MASS, weights, 0.0)
+    weights /= np.maximum(weights.sum(axis=1, keepdims=True), NO_MASS)
+    centres = np.array([c for _, c in leaves], dtype=float)
+    steps = np.einsum("ipk,pk->ip", ratios.reshape(len(parts), *weights.shape), weights)
+    out[uncertain] = (centres[:, None] + steps) * step
+    return out
+
+
+def _grid_neighbours(offsets: np.ndarray, step: float) -> tuple[np.ndarray, np.ndarray]:
+    """The two grid indices around each offset and their interpolation weights, (t, 2)."""
+    position = offsets / step
+    low = np.floor(position)
+    frac = position - low
+    # A total on a grid point (a point mass, say) is read there, not half a cell away.
+    up = frac > 1 - 1e-9
+    low = np.where(up, low + 1, low)
+    frac = np.where(up | (frac < 1e-9), 0.0, frac)
+    points = np.stack([low, low + 1], axis=1).astype(np.int64)
+    return points, np.stack([1 - frac, frac], axis=1)
+
+
+def _convolve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Each row of `a` (1-d or 2-d) convolved with `b`; directly while that is cheaper."""
+    if a.shape[-1] * len(b) > DIRECT_LIMIT:
+        return signal.fftconvolve(a, b if a.ndim == 1 else b[None, :], axes=-1)
+    if a.ndim == 1:
+        return np.convolve(a, b)
+    return np.stack([np.convolve(row, b) for row in a])
+
+
+def _merge_tree(leaves: list[Node]) -> Node:
+    nodes = leaves
+    while len(nodes) > 1:
+        merged = [_merge(nodes[j], nodes[j + 1]) for j in range(0, len(nodes) - 1, 2)]
+        nodes = merged + ([nodes[-1]] if len(nodes) % 2 else [])
+    return nodes[0]
+
+
+def _merge(a: Node, b: Node) -> Node:
+    masses = np.maximum(_convolve(a.masses, b.masses), 0.0)
+    cum = np.cumsum(masses)
+    lo = int(np.searchsorted(cum, NEGLIGIBLE * cum[-1], side="right"))
+    hi = int(np.searchsorted(cum, (1 - NEGLIGIBLE) * cum[-1], side="left"))
+    hi = min(max(hi, lo), len(masses) - 1)
+    return Node(a.start + b.start + lo, masses[lo : hi + 1], (a, b))
+
+
+def _masses_at(root: Node, points: np.ndarray) -> np.ndarray:
+    index = points - root.start
+    inside = (index >= 0) & (index < len(root.masses))
+    return np.where(inside, root.masses[np.clip(index, 0, len(root.masses) - 1)], 0.0)
+
+
+def _leaf_ratios(root: Node, points: np.ndarray, progress: Progress) -> np.ndarray:
+    """For each leaf (in order) and grid point t: sum_k (k - c_i) p_i[k] O_i[t - k] divided
+    by sum_k p_i[k] O_i[t - k] (0 where the total has no mass at t)."""
+    # outside[r, s]: the node's outside at grid index t_r - stop + s, s over the node's width.
+    first = np.zeros((len(points), len(root.masses)))
+    at = root.stop - points  # the outside of the root is a unit mass at 0
+    hit = (at >= 0) & (at < len(root.masses))
+    first[np.nonzero(hit)[0], at[hit]] = 1.0
+    rows: list[tuple[int, np.ndarray]] = []
+    if root.children is None:
+        rows.append((0, _ratio(first, root, root.masses, root.weighted, root.start)))
+    stack = [(root, first)]
+    leaves = _number_leaves(root)
+    while stack:
+        node, outside = stack.pop()
+        assert node.children is not None
+        for child, sibling in (node.children, node.children[::-1]):
+            if child.children is not None:
+                stack.append((child, _outside_of(child, sibling, node, outside)))
+                continue
+            # A leaf's numerator and mass straight from its parent's outside: one short
+            # convolution with its sibling instead of a window for every total.
+            plain = _convolve(child.masses, sibling.masses)
+            weighted = _convolve(child.weighted, sibling.masses)
+            rows.append(
+                (child.index, _ratio(outside, node, plain, weighted, child.start + sibling.start))
+            )
+        progress.report(len(rows) / leaves)
+    return np.array([row for _, row in sorted(rows, key=lambda r: r[0])])
+
+
+def _ratio(
+    outside: np.ndarray, node: Node, plain: np.ndarray, weighted: np.ndarray, start: int
+) -> np.ndarray:
+    """Weighted over plain mass of the configurations that make each total, from the node's
+    outside windows and two lattices over (a part of) the node's support."""
+    placed = np.zeros((2, len(node.masses)))
+    lo, hi = max(start, node.start), min(start + len(plain) - 1, node.stop)
+    if hi >= lo:
+        placed[0, lo - node.start : hi - node.start + 1] = plain[lo - start : hi - start + 1]
+        placed[1, lo - node.start : hi - node.start + 1] = weighted[lo - start : hi - start + 1]
+    mass, moment = (outside @ placed[:, ::-1].T).T
+    return np.where(mass > NO_MASS, moment / np.maximum(mass, NO_MASS), 0.0)
+
+
+def _outside_of(child: Node, sibling: Node, parent: Node, outside: np.ndarray) -> np.ndarray:
+    """The child's outside windows: the parent's convolved with the sibling's lattice."""
+    full = _convolve(outside, sibling.masses)
+    offset = parent.stop - child.stop - sibling.start
+    out = np.zeros((outside.shape[0], len(child.masses)))
+    lo, hi = max(offset, 0), min(offset + len(child.masses), full.shape[1])
+    if hi > lo:
+        out[:, lo - offset : hi - offset] = full[:, lo:hi]
+    return out
+
+
+def _number_leaves(root: Node) -> int:
+    """Number the leaves in order (the tree keeps the items' order); return how many."""
+    count = 0
+    stack = [root]
+    while stack:
+        node = stack.pop()
+        if node.children is None:
+            node.index = count
+            count += 1
+        else:
+            stack.extend(node.children[::-1])
+    return count
