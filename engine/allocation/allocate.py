@@ -213,18 +213,25 @@ def difference_note(
     if naive is None:
         return f"At {tag} the items' own percentiles equal their base values: no naive allocation."
     gaps = {name: (naive[name] - shares[name]) / contingency for name in shares}
-    worst = max(gaps, key=lambda name: abs(gaps[name]))
-    gap = gaps[worst]
-    if abs(gap) < MATTERS:
+    largest = max(abs(g) for g in gaps.values())
+    if largest < MATTERS:
         return (
-            f"At {tag} the naive allocation is within {100 * abs(gap):.0f} points of the"
+            f"At {tag} the naive allocation is within {100 * largest:.0f} points of the"
             f" contingency of the conditional one for every {kind}: the difference does not"
             " change where the money is held."
         )
-    said = "more" if gap > 0 else "less"
+
+    def said(name: str) -> str:
+        return (
+            f"{kind} {name!r} {100 * naive[name] / contingency:.0f}% of the contingency where"
+            f" it carries {100 * shares[name] / contingency:.0f}%"
+        )
+
+    over = max(gaps, key=lambda name: gaps[name])
+    under = min(gaps, key=lambda name: gaps[name])
+    parts = [said(name) for name in (over, under) if abs(gaps[name]) >= MATTERS]
     return (
-        f"At {tag} the difference matters: the naive allocation gives {kind} {worst!r}"
-        f" {100 * naive[worst] / contingency:.0f}% of the contingency, {100 * abs(gap):.0f}"
-        f" points {said} than the {100 * shares[worst] / contingency:.0f}% it carries when"
-        f" the total is at {tag}."
+        f"At {tag} the difference matters: the naive allocation gives "
+        + " and ".join(parts)
+        + f" when the total is at {tag}."
     )

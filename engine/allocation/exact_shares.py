@@ -149,13 +149,13 @@ def _leaf_ratios(root: Node, points: np.ndarray, progress: Progress) -> np.ndarr
     hit = (at >= 0) & (at < len(root.masses))
     first[np.nonzero(hit)[0], at[hit]] = 1.0
     rows: list[tuple[int, np.ndarray]] = []
-    if root.children is None:
-        rows.append((0, _ratio(first, root, root.masses, root.weighted, root.start)))
+    if root.children is None:  # one uncertain item: it is the total
+        return _ratio(first, root, root.masses, root.weighted, root.start)[None, :]
     stack = [(root, first)]
     leaves = _number_leaves(root)
     while stack:
         node, outside = stack.pop()
-        assert node.children is not None
+        assert node.children is not None  # only inner nodes are stacked
         for child, sibling in (node.children, node.children[::-1]):
             if child.children is not None:
                 stack.append((child, _outside_of(child, sibling, node, outside)))
