@@ -11,7 +11,10 @@ from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
+from cli.allocation_text import add_budget_option, parse_budgets, print_allocation
+from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
+from engine.allocation import allocate
 from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
@@ -53,6 +56,9 @@ def build_parser() -> argparse.ArgumentParser:
         help="use the nearest valid correlation matrix when the stated one is not valid",
     )
 
+    add_budget_option(report)
+    add_compare_parser(commands)
+
     check = commands.add_parser("check", help="validate an estimate and list its problems")
     check.add_argument("input")
 
@@ -74,6 +80,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         if args.command == "check":
             return check(Path(args.input), sys.stdout, sys.stderr)
+        if args.command == "compare":
+            return compare_command(args, sys.stdout, sys.stderr)
         return report(args, sys.stdout, sys.stderr)
     except InputError as bad:
         return _problems([str(p) for p in bad.problems], sys.stderr)
@@ -182,25 +190,33 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.accept_repair:
         estimate.correlation.accept_repair = True
     settings = settings_for(args, estimate)
+    budgets = parse_budgets(args.budget)
     analysis = analyze(estimate, **settings.analyze_kwargs())
+    allocation = allocate(estimate, analysis, budgets=budgets)
     if args.output:
         from reports import write_report
 
         written = write_report(
-            args.output, estimate, analysis, settings, source_path=path, paper=args.paper
+            args.output,
+            estimate,
+            analysis,
+            settings,
+            source_path=path,
+            paper=args.paper,
+            allocation=allocation,
         )
         print(f"report written: {written}", file=err if args.json else out)
     if args.json:
         from reports.json_report import dumps
         from reports.provenance import provenance
 
-        print(dumps(analysis, provenance(estimate, settings, path)), file=out)
+        print(dumps(analysis, provenance(estimate, settings, path), allocation), file=out)
     elif not args.output:
-        print_summary(analysis, settings.unit or estimate.unit, out)
+        print_summary(analysis, settings.unit or estimate.unit, out, allocation)
     return OK
 
 
-def print_summary(analysis, unit: str, out: TextIO) -> None:
+def print_summary(analysis, unit: str, out: TextIO, allocation=None) -> None:
     """The levels as a terminal table, for a quick look without writing a file."""
     from reports.caution import CAUTION
 
@@ -215,4 +231,6 @@ def print_summary(analysis, unit: str, out: TextIO) -> None:
             f"{r.normal:>12,.0f} {r.gap_pct:>6.1f}%  {r.verdict}",
             file=out,
         )
+    if allocation is not None:
+        print_allocation(allocation, unit, out)
     print(CAUTION, file=out)

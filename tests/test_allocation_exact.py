@@ -13,7 +13,7 @@ from scipy import stats
 from engine import Estimate, LineItem, analyze
 from engine.allocation import allocate
 from engine.allocation.exact_shares import conditional_means
-from engine.families.distributions import Discrete, Fixed, Normal, Occurrence, Triangular
+from engine.families.distributions import Discrete, Fixed, Occurrence, Triangular
 
 Z90 = stats.norm.ppf(0.9)
 
@@ -36,7 +36,10 @@ def test_normal_items_match_the_bivariate_normal_conditional_mean() -> None:
     rng = np.random.default_rng(11)
     means = rng.uniform(100, 900, 7)
     sds = rng.uniform(5, 120, 7)
-    items = [_normal(f"N{k}", m, s, "AB"[k % 2]) for k, (m, s) in enumerate(zip(means, sds))]
+    items = [
+        _normal(f"N{k}", m, s, "AB"[k % 2])
+        for k, (m, s) in enumerate(zip(means, sds, strict=False))
+    ]
     items.append(LineItem("Permit fees", "fixed", most_likely=40.0))
     est = Estimate(items=items)
     analysis = analyze(est, method="exact", levels=(10, 50, 80, 90, 99))
@@ -116,7 +119,10 @@ def _local_linear(x: np.ndarray, total: np.ndarray, t: float, h: float) -> tuple
         return (s2 * a - s1 * b) / (s0 * s2 - s1 * s1)
 
     whole = fit(x, total)
-    parts = [fit(xs, ts) for xs, ts in zip(np.array_split(x, 20), np.array_split(total, 20))]
+    parts = [
+        fit(xs, ts)
+        for xs, ts in zip(np.array_split(x, 20), np.array_split(total, 20), strict=False)
+    ]
     return whole, float(np.std(parts, ddof=1) / math.sqrt(20))
 
 
@@ -179,7 +185,10 @@ def test_thousands_of_items_stay_exact_and_add_up() -> None:
     dists = [
         Triangular(float(a), float(a + c), float(a + c + w))
         for a, c, w in zip(
-            rng.uniform(10, 100, 3000), rng.uniform(0, 20, 3000), rng.uniform(1, 60, 3000)
+            rng.uniform(10, 100, 3000),
+            rng.uniform(0, 20, 3000),
+            rng.uniform(1, 60, 3000),
+            strict=False,
         )
     ]
     big_m = math.fsum(d.mean for d in dists)

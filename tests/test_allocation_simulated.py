@@ -30,7 +30,7 @@ def test_correlated_normal_items_match_the_conditional_mean_of_a_normal_vector()
     # items a normal copula with the product-moment matrix it used (Iman & Conover 1982).
     means = np.array([400.0, 250.0, 120.0, 600.0])
     sds = np.array([60.0, 45.0, 30.0, 20.0])
-    items = [_normal(f"Part {k}", m, s) for k, (m, s) in enumerate(zip(means, sds))]
+    items = [_normal(f"Part {k}", m, s) for k, (m, s) in enumerate(zip(means, sds, strict=False))]
     spec = CorrelationSpec(
         pairs=[CorrelationPair("Part 0", "Part 1", 0.6), CorrelationPair("Part 1", "Part 2", 0.3)]
     )
@@ -80,7 +80,7 @@ def test_base_and_budget_confidence_against_the_normal_cdf() -> None:
     alloc = allocate(est, analysis, budgets=[310.0, 340.0])
     s = math.sqrt(500.0)
     assert alloc.base_confidence.probability == pytest.approx(0.5, abs=1e-5)  # base = means
-    for budget, amount in zip(alloc.budgets, (310.0, 340.0)):
+    for budget, amount in zip(alloc.budgets, (310.0, 340.0), strict=False):
         assert budget.probability == pytest.approx(stats.norm.cdf((amount - 300) / s), abs=1e-5)
         assert budget.contingency == pytest.approx(amount - 300.0)
         assert budget.standard_error is None
