@@ -68,8 +68,7 @@ def draw_allocation(
         )
     ax.set_yticks(y, [_short(n) for n in names], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
-    what = "groups" if by == "group" else "items"
-    style_axes(ax, f"Contingency at P{row.level:g} by {what}")
+    style_axes(ax, f"Contingency at P{row.level:g} by {by}")
     ax.grid(False, axis="y")
     money_axis(ax.xaxis)
     ax.set_xlabel(

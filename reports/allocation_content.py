@@ -37,16 +37,27 @@ def confidence_table(allocation: Allocation) -> Table:
     return make_table(columns, rows)
 
 
-def _share_columns(allocation: Allocation, key: str, naive_key: str) -> list[Column]:
+def shown_levels(allocation: Allocation, most: int = 3) -> list[int]:
+    """Which levels a printed page has room for: those nearest P50, P80 and P90."""
+    levels = [row.level for row in allocation.levels]
+    if len(levels) <= most:
+        return list(range(len(levels)))
+    picked = {min(range(len(levels)), key=lambda j: abs(levels[j] - aim)) for aim in (50, 80, 90)}
+    return sorted(picked)
+
+
+def _share_columns(
+    allocation: Allocation, key: str, naive_key: str, shown: list[int] | None
+) -> list[Column]:
     columns = []
-    for j, row in enumerate(allocation.levels):
-        tag = f"P{row.level:g}"
+    for j in range(len(allocation.levels)) if shown is None else shown:
+        tag = f"P{allocation.levels[j].level:g}"
         columns.append(Column(f"{tag} share", "money", lambda r, j=j: r[key][j]))
         columns.append(Column(f"{tag} naive", "money", lambda r, j=j: r[naive_key][j]))
     return columns
 
 
-def group_table(allocation: Allocation) -> Table:
+def group_table(allocation: Allocation, shown: list[int] | None = None) -> Table:
     """One row per group, a share and a naive column per level, and the contingency row."""
     groups = list(allocation.levels[0].groups)
     records = [
@@ -70,10 +81,12 @@ def group_table(allocation: Allocation) -> Table:
         }
     )
     columns = [Column("Group", "text", lambda r: r["name"])]
-    return make_table(columns + _share_columns(allocation, "share", "naive"), records)
+    return make_table(columns + _share_columns(allocation, "share", "naive", shown), records)
 
 
-def item_table(allocation: Allocation, limit: int | None = None) -> Table:
+def item_table(
+    allocation: Allocation, limit: int | None = None, shown: list[int] | None = None
+) -> Table:
     """One row per item, largest share at the highest level first; `limit` keeps the top
     rows and sums the rest into one."""
     top = allocation.levels[-1]
@@ -112,15 +125,16 @@ def item_table(allocation: Allocation, limit: int | None = None) -> Table:
         Column("Item", "text", lambda r: r["name"]),
         Column("Group", "text", lambda r: r["group"]),
         Column("Base value", "money", lambda r: r["base"]),
-        *_share_columns(allocation, "share", "naive"),
+        *_share_columns(allocation, "share", "naive", shown),
     ]
     if allocation.method == "simulation":
         columns.append(Column(f"P{top.level:g} standard error", "money", lambda r: r["se"][-1]))
     return make_table(columns, records)
 
 
-def risk_table(allocation: Allocation) -> Table:
+def risk_table(allocation: Allocation, shown: list[int] | None = None) -> Table:
     levels = [row.level for row in allocation.levels]
+    levels = levels if shown is None else [levels[j] for j in shown]
     columns = [
         Column("Risk event", "text", lambda r: r.name),
         Column("Probability", "percent", lambda r: r.probability),

@@ -52,7 +52,8 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     from matplotlib.backends.backend_pdf import PdfPages
 
     from charts.comparison import draw_before_after
-    from reports.pdf import Flow, Page
+    from reports.allocation_pdf import chart_block, titled_table
+    from reports.pdf import Flow
 
     unit = about.get("unit", "")
     footer = f"Rangefold {about['rangefold_version']} - before and after - {about['created']}"
@@ -70,24 +71,17 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow.gap()
     flow.table(said.facts_table(comparison), size=7.2, widths=[2.4, 1, 1])
     flow.gap()
-    if flow.page.room < 3.6:
-        flow.pages.append(Page(paper, footer))
-    page = flow.page
-    top = 1 - (page.y + 0.1) / page.height
-    grid = page.figure.add_gridspec(
-        1, 1, left=0.12, right=0.95, top=top, bottom=1 - (page.y + 3.4) / page.height
-    )
-    draw_before_after(page.figure.add_subplot(grid[0, 0]), comparison, unit)
-    page.y += 3.6
+    draw_before_after(chart_block(flow, 3.8), comparison, unit)
     level = comparison.levels[-1].level
-    flow.text(f"Where the contingency sits at P{level:g}, by group", size=10, weight="bold")
-    flow.table(said.group_table(comparison, level), size=7, widths=[2.4, 1, 1, 1])
+    groups = said.group_table(comparison, level)
+    title = f"Where the contingency sits at P{level:g}, by group"
+    titled_table(flow, title, groups, 7, [2.4, 1, 1, 1])
     flow.gap()
-    flow.text("What changed", size=10, weight="bold")
     changes = said.change_table(comparison)
     if changes.rows:
-        flow.table(changes, size=6.5, widths=[2.4, 1.2, 0.7, 3.4])
+        titled_table(flow, "What changed", changes, 6.5, [2.4, 1.2, 0.7, 3.4])
     else:
+        flow.text("What changed", size=10, weight="bold")
         flow.text("No line item was added, removed or changed.")
     flow.gap()
     flow.text(CAUTION, size=8.5, style="italic")
