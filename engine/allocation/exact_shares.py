@@ -37,6 +37,9 @@ RESOLUTION = 1000
 NEGLIGIBLE = 1e-16
 # Below this mass at a grid point the total is not conditioned there.
 NO_MASS = 1e-250
+# A grid point of the total's lattice holding less than this fraction of the largest point's
+# mass is read as empty: FFT rounding alone leaves ~1e-16 of it anywhere.
+EMPTY = 1e-10
 # Product of two lengths above which convolution goes by FFT.
 DIRECT_LIMIT = 500_000
 
@@ -82,30 +85,40 @@ def conditional_means(
         centre = round(d.mean / step)
         leaf.weighted = (np.arange(start, start + len(masses)) - centre) * masses
         leaves.append((leaf, centre))
-    points, weights = _grid_neighbours(np.asarray(totals, dtype=float) - shift, step)
     root = _merge_tree([leaf for leaf, _ in leaves])
+    points, weights = _reading_points(root, np.asarray(totals, dtype=float) - shift, step)
     ratios = _leaf_ratios(root, points.ravel(), progress)  # in leaf order, (items, points)
-    masses = _masses_at(root, points.ravel()).reshape(weights.shape)
-    # A neighbour of a total with no mass (between point masses) is not read.
-    weights = np.where(masses > NO_MASS, weights, 0.0)
-    weights /= np.maximum(weights.sum(axis=1, keepdims=True), NO_MASS)
     centres = np.array([c for _, c in leaves], dtype=float)
     steps = np.einsum("ipk,pk->ip", ratios.reshape(len(parts), *weights.shape), weights)
     out[uncertain] = (centres[:, None] + steps) * step
     return out
 
 
-def _grid_neighbours(offsets: np.ndarray, step: float) -> tuple[np.ndarray, np.ndarray]:
-    """The two grid indices around each offset and their interpolation weights, (t, 2)."""
+def _reading_points(root: Node, offsets: np.ndarray, step: float) -> tuple[np.ndarray, np.ndarray]:
+    """For each total, two grid points that carry mass and weights (adding up to 1) that
+    put their weighted position at the total: its neighbours, interpolated; or, where the
+    total lies in a cell the lattice leaves empty (a gap between point masses, an end of
+    the support the analysis's grid smeared past), the two nearest points with mass,
+    extrapolated. The conditional means then add up to the total exactly either way."""
+    carried = np.nonzero(root.masses > EMPTY * root.masses.max())[0] + root.start
     position = offsets / step
-    low = np.floor(position)
-    frac = position - low
-    # A total on a grid point (a point mass, say) is read there, not half a cell away.
-    up = frac > 1 - 1e-9
-    low = np.where(up, low + 1, low)
-    frac = np.where(up | (frac < 1e-9), 0.0, frac)
-    points = np.stack([low, low + 1], axis=1).astype(np.int64)
-    return points, np.stack([1 - frac, frac], axis=1)
+    points = np.empty((len(offsets), 2), dtype=np.int64)
+    weights = np.empty((len(offsets), 2))
+    for r, x in enumerate(position):
+        k = int(np.searchsorted(carried, x))
+        if k < len(carried) and abs(carried[k] - x) < 1e-9:  # on a grid point: read it alone
+            points[r], weights[r] = (carried[k], carried[k]), (1.0, 0.0)
+            continue
+        if len(carried) == 1:
+            points[r], weights[r] = (carried[0], carried[0]), (1.0, 0.0)
+            continue
+        if 0 < k < len(carried):
+            a, b = carried[k - 1], carried[k]
+        else:
+            a, b = (carried[0], carried[1]) if k == 0 else (carried[-2], carried[-1])
+        frac = (x - a) / (b - a)
+        points[r], weights[r] = (a, b), (1 - frac, frac)
+    return points, weights
 
 
 def _convolve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -132,12 +145,6 @@ def _merge(a: Node, b: Node) -> Node:
     hi = int(np.searchsorted(cum, (1 - NEGLIGIBLE) * cum[-1], side="left"))
     hi = min(max(hi, lo), len(masses) - 1)
     return Node(a.start + b.start + lo, masses[lo : hi + 1], (a, b))
-
-
-def _masses_at(root: Node, points: np.ndarray) -> np.ndarray:
-    index = points - root.start
-    inside = (index >= 0) & (index < len(root.masses))
-    return np.where(inside, root.masses[np.clip(index, 0, len(root.masses) - 1)], 0.0)
 
 
 def _leaf_ratios(root: Node, points: np.ndarray, progress: Progress) -> np.ndarray:
