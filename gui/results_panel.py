@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
 )
 
 from engine import Analysis
+from gui.allocation_panel import AllocationPanel
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
 from gui.repair_notice import RepairNotice
@@ -136,6 +137,11 @@ class ResultsPanel(QWidget):
         self._links_index = self.tabs.addTab(self.links, LINKS_TAB)
         self.tabs.setTabToolTip(self._links_index, "Each item's rank correlation with the total")
         self.tabs.setTabVisible(self._links_index, False)
+        self.allocation = AllocationPanel()  # filled by its own worker: see compute()
+        self.tabs.addTab(self.allocation, "Allocation")
+        self.tabs.setTabToolTip(
+            self.tabs.count() - 1, "Where the contingency sits, by group and by item"
+        )
         self.tabs.currentChanged.connect(self._draw_current)
         self.repair = RepairNotice()
         self.reasons = QLabel(objectName="reasons", wordWrap=True)
