@@ -13,7 +13,7 @@ from __future__ import annotations
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -22,7 +22,6 @@ from engine.allocation.exact_shares import conditional_means
 from engine.allocation.naive import naive_shares
 from engine.allocation.risk_ranking import RankedRisk, rank_risk_events
 from engine.allocation.simulated_shares import simulated_means, window_edges
-from engine.analysis import Analysis
 from engine.items import Estimate
 from engine.progress import Progress
 from engine.validation import base_value, build_distribution
@@ -31,6 +30,9 @@ UNGROUPED = "(no group)"
 # A difference this large, in points of the contingency, changes where money is held
 # (common practice, no source).
 MATTERS = 0.10
+
+if TYPE_CHECKING:  # the analysis is taken, never made, here: no import of analysis.py
+    from engine.analysis import Analysis
 
 
 @dataclass(frozen=True)

@@ -7,12 +7,14 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from engine.allocation import Allocation
-from engine.analysis import Analysis
 from engine.comparison.item_changes import ItemChange, item_changes
 from engine.items import Estimate
+
+if TYPE_CHECKING:  # the analysis is taken, never made, here: no import of analysis.py
+    from engine.analysis import Analysis
 
 
 @dataclass(frozen=True)
