@@ -205,3 +205,19 @@ def test_thousands_of_items_stay_exact_and_add_up() -> None:
         np.max(np.abs(got - expected))
         < 0.02 * 1.5 * big_s * max(d.variance for d in dists) / big_s**2 + 1e-6 * big_s
     )
+
+
+def test_a_heavy_tail_coarsens_the_grid_and_still_adds_up() -> None:
+    # P90/P10 = 10,000: the total spreads over millions of grid steps (README, heavy tails);
+    # the allocation bounds its lattice and the shares still add up to the contingency.
+    items = [
+        LineItem("Fit-out", "triangular", low=40.0, most_likely=50.0, high=90.0),
+        LineItem("Claim", "lognormal", low=1.0, high=1e4, low_pct=10, high_pct=90),
+        LineItem("Flood", "fixed", most_likely=300.0, probability=0.1),
+    ]
+    est = Estimate(items=items)
+    alloc = allocate(est, analyze(est, method="exact", levels=(50, 90, 99)))
+    for row in alloc.levels:
+        assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * abs(row.total))
+    # the far tail is the claim's
+    assert alloc.at(99).shares[1] > 0.99 * alloc.at(99).contingency

@@ -40,6 +40,8 @@ NO_MASS = 1e-250
 # A grid point of the total's lattice holding less than this fraction of the largest point's
 # mass is read as empty: FFT rounding alone leaves ~1e-16 of it anywhere.
 EMPTY = 1e-10
+# Longest lattice of the total kept (points); a longer one is coarsened to fit.
+MAX_WIDTH = 1 << 19
 # Product of two lengths above which convolution goes by FFT.
 DIRECT_LIMIT = 500_000
 
@@ -78,20 +80,36 @@ def conditional_means(
     shift = math.fsum(dists[k].mean for k in certain)
     parts = [dists[k] for k in uncertain]
     step = aligned_step(parts, math.sqrt(math.fsum(d.variance for d in parts)) / resolution)
-    leaves = []
-    for d in parts:
-        start, masses, _ = item_lattice(d, step)
-        leaf = Node(start, masses, None)
-        centre = round(d.mean / step)
-        leaf.weighted = (np.arange(start, start + len(masses)) - centre) * masses
-        leaves.append((leaf, centre))
-    root = _merge_tree([leaf for leaf, _ in leaves])
+    root = _lattice_tree(parts, step)
+    while root is None:
+        # A heavy tail stretches the total over millions of steps, and every window down the
+        # tree would be as long: a coarser grid keeps memory bounded (the shares still add
+        # up; the body is resolved no worse than the total's own grid resolves it).
+        # (Past the point values' common quantum the grid cannot stay aligned: just double.)
+        coarser = aligned_step(parts, 2 * step)
+        step = coarser if coarser > step else 2 * step
+        root = _lattice_tree(parts, step)
     points, weights = _reading_points(root, np.asarray(totals, dtype=float) - shift, step)
     ratios = _leaf_ratios(root, points.ravel(), progress)  # in leaf order, (items, points)
-    centres = np.array([c for _, c in leaves], dtype=float)
+    centres = np.array([round(d.mean / step) for d in parts], dtype=float)
     steps = np.einsum("ipk,pk->ip", ratios.reshape(len(parts), *weights.shape), weights)
     out[uncertain] = (centres[:, None] + steps) * step
     return out
+
+
+def _lattice_tree(parts: Sequence[Distribution], step: float) -> Node | None:
+    """Each item's lattice (with its moment about the grid point nearest its mean) and
+    their sum's merge tree; None when an item or the total is wider than MAX_WIDTH."""
+    leaves = []
+    for d in parts:
+        start, masses, _ = item_lattice(d, step)
+        if len(masses) > MAX_WIDTH:
+            return None
+        leaf = Node(start, masses, None)
+        leaf.weighted = (np.arange(start, start + len(masses)) - round(d.mean / step)) * masses
+        leaves.append(leaf)
+    root = _merge_tree(leaves)
+    return root if len(root.masses) <= MAX_WIDTH else None
 
 
 def _reading_points(root: Node, offsets: np.ndarray, step: float) -> tuple[np.ndarray, np.ndarray]:
