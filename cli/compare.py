@@ -13,6 +13,8 @@ from engine.comparison import compare
 
 
 def add_compare_parser(commands) -> None:
+    from cli.main import add_analysis_options  # main imports this module: not at the top
+
     parser = commands.add_parser(
         "compare", help="an estimate before and after a revision, side by side"
     )
@@ -20,18 +22,7 @@ def add_compare_parser(commands) -> None:
     parser.add_argument("after", help="the estimate after")
     parser.add_argument("-o", "--output", help="comparison file: .xlsx, .pdf or .json")
     parser.add_argument("--json", action="store_true", help="print the comparison as JSON")
-    parser.add_argument("--levels", help="confidence levels in percent, e.g. 50,80,90")
-    parser.add_argument("--method", choices=("auto", "exact", "simulation"))
-    parser.add_argument("--trials", type=int, help="simulation trials (default 100000)")
-    parser.add_argument("--seed", type=int, help="simulation seed (the same for both)")
-    parser.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
-    parser.add_argument("--sampling", choices=("lhs", "random"))
-    parser.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
-    parser.add_argument(
-        "--accept-repair",
-        action="store_true",
-        help="use the nearest valid correlation matrix when a stated one is not valid",
-    )
+    add_analysis_options(parser)  # the same settings for both files, the first file's
 
 
 def compare_command(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:

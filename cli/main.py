@@ -31,6 +31,22 @@ class OneLineParser(argparse.ArgumentParser):
         raise UsageProblem(f"{self.prog}: {message}. Fix: see '{self.prog} --help'.")
 
 
+def add_analysis_options(parser: argparse.ArgumentParser) -> None:
+    """The settings an analysis takes, shared by `report` and `compare`."""
+    parser.add_argument("--levels", help="confidence levels in percent, e.g. 50,80,90")
+    parser.add_argument("--method", choices=("auto", "exact", "simulation"))
+    parser.add_argument("--trials", type=int, help="simulation trials (default 100000)")
+    parser.add_argument("--seed", type=int, help="simulation seed")
+    parser.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
+    parser.add_argument("--sampling", choices=("lhs", "random"))
+    parser.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
+    parser.add_argument(
+        "--accept-repair",
+        action="store_true",
+        help="use the nearest valid correlation matrix when the stated one is not valid",
+    )
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = OneLineParser(
         prog="rangefold",
@@ -43,18 +59,7 @@ def build_parser() -> argparse.ArgumentParser:
     report.add_argument("input", help="estimate: .csv, .tsv, .txt, .xlsx, .xlsm or .rangefold")
     report.add_argument("-o", "--output", help="report file: .xlsx, .pdf or .json")
     report.add_argument("--json", action="store_true", help="print the analysis as JSON")
-    report.add_argument("--levels", help="confidence levels in percent, e.g. 50,80,90")
-    report.add_argument("--method", choices=("auto", "exact", "simulation"))
-    report.add_argument("--trials", type=int, help="simulation trials (default 100000)")
-    report.add_argument("--seed", type=int, help="simulation seed")
-    report.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
-    report.add_argument("--sampling", choices=("lhs", "random"))
-    report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
-    report.add_argument(
-        "--accept-repair",
-        action="store_true",
-        help="use the nearest valid correlation matrix when the stated one is not valid",
-    )
+    add_analysis_options(report)
 
     add_budget_option(report)
     add_compare_parser(commands)
