@@ -22,7 +22,8 @@ LABEL_CHARS = 34
 
 
 def allocation_bars(allocation: Allocation, level: float, by: str = "group", top: int = 12):
-    """(names, shares, naive shares or None) at the level, largest share first."""
+    """(names, shares, naive shares or None) at the level, largest share first; `by` is
+    "group", "item" or "risk event"."""
     row = allocation.at(level)
     if by == "group":
         names = list(row.groups)
@@ -30,7 +31,11 @@ def allocation_bars(allocation: Allocation, level: float, by: str = "group", top
         naive = None if row.naive_groups is None else [row.naive_groups[g] for g in names]
     else:
         names, shares, naive = list(allocation.names), list(row.shares), row.naive
-    order = sorted(range(len(names)), key=lambda k: -abs(shares[k]))[:top]
+    kept = range(len(names))
+    if by == "risk event":
+        events = {r.name for r in allocation.risk_events}
+        kept = [k for k in kept if names[k] in events]
+    order = sorted(kept, key=lambda k: -abs(shares[k]))[:top]
     return (
         [names[k] for k in order],
         [shares[k] for k in order],

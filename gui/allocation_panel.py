@@ -42,6 +42,14 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         names, shares = list(allocation.names), list(row.shares)
         naive = [None] * len(names) if row.naive is None else list(row.naive)
         errors = [None] * len(names) if row.standard_errors is None else list(row.standard_errors)
+    if by == "risk event":  # the ranking's figures beside each event's name
+        said = {
+            r.name: f"{r.name}  (p {100 * r.probability:g}%, expected {r.expected_value:,.0f})"
+            for r in allocation.risk_events
+        }
+        kept = [k for k, n in enumerate(names) if n in said]
+        names = [said[names[k]] for k in kept]
+        shares, naive, errors = ([v[k] for k in kept] for v in (shares, naive, errors))
     out = [
         (n, s, s / c if c > 0 else None, v, None if v is None or c <= 0 else v / c, e)
         for n, s, v, e in zip(names, shares, naive, errors, strict=True)
@@ -69,7 +77,7 @@ class AllocationPanel(QWidget):
 
         self.level = QComboBox(objectName="allocation-level")
         self.by = QComboBox(objectName="allocation-by")
-        self.by.addItems(["By group", "By item"])
+        self.by.addItems(["By group", "By item", "Risk events"])
         self.budget = QLineEdit(objectName="allocation-budget", placeholderText="e.g. 15.2M")
         self.budget.setMinimumWidth(90)
         self.budget.setMaximumWidth(140)
@@ -149,7 +157,7 @@ class AllocationPanel(QWidget):
         if allocation is None or self.level.currentIndex() < 0:
             return
         j = self.level.currentIndex()
-        by = "group" if self.by.currentIndex() == 0 else "item"
+        by = ("group", "item", "risk event")[self.by.currentIndex()]
         rows = allocation_rows(allocation, j, by)
         self.table.setRowCount(len(rows))
         for r, row in enumerate(rows):

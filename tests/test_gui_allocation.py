@@ -9,7 +9,7 @@ import pytest
 from gui_fixtures import two_uniforms
 from PySide6.QtWidgets import QFileDialog
 
-from engine import Estimate, Settings
+from engine import Estimate, LineItem, Settings
 from gui.compare_dialog import compare_with
 
 TIMEOUT_MS = 30_000
@@ -84,3 +84,31 @@ def test_compare_with_another_file(make_window, qtbot, tmp_path, monkeypatch):
     assert written is not None and written.read_bytes().startswith(b"%PDF-")
     assert math.isclose(result.before.total.mean, 100.0)
     dialog.close()
+
+
+def test_risk_events_view_and_newest_request_wins(make_window, qtbot):
+    window = make_window()
+    estimate = Estimate(
+        items=[
+            LineItem("Walls", "triangular", low=90.0, most_likely=100.0, high=130.0),
+            LineItem("Flood", "fixed", most_likely=300.0, probability=0.15),
+        ],
+        title="Depot (invented)",
+    )
+    panel = open_and_allocate(
+        window, qtbot, estimate, Settings(levels=(50.0, 90.0), method="exact")
+    )
+    panel.level.setCurrentIndex(1)  # P90: the flood (15% > 10%) has happened there
+    panel.by.setCurrentIndex(2)
+    assert panel.table.rowCount() == 1
+    assert panel.table.item(0, 0).text().startswith("Flood  (p 15%, expected 45")
+    # the flood carries E[flood | T = P90] - 0: nearly all of its 300
+    share = float(panel.table.item(0, 1).text().replace(",", ""))
+    assert 250 < share <= 300
+    # two requests in a row: only the second one's allocation is shown
+    analysis = window.last_outcome.analysis
+    first = window.last_outcome.estimate
+    with qtbot.waitSignal(panel.worker.finished, timeout=TIMEOUT_MS) as blocker:
+        panel.compute(first, analysis)
+        panel.compute(first, analysis)
+    assert panel.worker.latest_id >= 2 and blocker.args[0] is panel.allocation
