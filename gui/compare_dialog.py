@@ -88,7 +88,9 @@ def _table(headers: list[str], rows: list[list[str]], name: str) -> QTableWidget
     table.setHorizontalHeaderLabels(headers)
     table.verticalHeader().setVisible(False)
     table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-    table.horizontalHeader().setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+    header = table.horizontalHeader()
+    header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+    header.setStretchLastSection(True)
     for r, row in enumerate(rows):
         for c, text in enumerate(row):
             item = QTableWidgetItem(text)

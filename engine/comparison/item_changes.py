@@ -53,7 +53,7 @@ def _said(value: Any) -> str:
     if value is None:
         return "blank"
     if isinstance(value, float):
-        return f"{value:g}"
+        return f"{value:,g}"
     if isinstance(value, tuple):
         return "; ".join(f"{v:g} @ {100 * w:g}%" for v, w in value)
     return str(value)
