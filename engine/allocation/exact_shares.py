@@ -24,6 +24,7 @@ import math
 from collections.abc import Sequence
 
 import numpy as np
+from numpy.lib.stride_tricks import sliding_window_view
 from scipy import signal
 
 from engine.exact.convolution import aligned_step, item_lattice
@@ -42,6 +43,8 @@ NO_MASS = 1e-250
 EMPTY = 1e-10
 # Longest lattice of the total kept (points); a longer one is coarsened to fit.
 MAX_WIDTH = 1 << 19
+# Farthest apart (grid steps) a total's two reading points may be to share one window row.
+MAX_REACH = 8
 # Product of two lengths above which convolution goes by FFT.
 DIRECT_LIMIT = 500_000
 
@@ -90,9 +93,17 @@ def conditional_means(
         step = coarser if coarser > step else 2 * step
         root = _lattice_tree(parts, step)
     points, weights = _reading_points(root, np.asarray(totals, dtype=float) - shift, step)
-    ratios = _leaf_ratios(root, points.ravel(), progress)  # in leaf order, (items, points)
+    spans = points[:, 1] - points[:, 0]
+    if spans.max() <= MAX_REACH:
+        # A total's two points are neighbours (or nearly): one window row serves both.
+        firsts, row = np.unique(points[:, 0], return_inverse=True)
+        ratios = _leaf_ratios(root, firsts, int(spans.max()), progress)
+        low, high = ratios[:, row, 0], ratios[:, row, spans]
+    else:  # points far apart (a wide gap between point masses): a row for each
+        ratios = _leaf_ratios(root, points.ravel(), 0, progress)[:, :, 0]
+        low, high = ratios[:, 0::2], ratios[:, 1::2]
     centres = np.array([round(d.mean / step) for d in parts], dtype=float)
-    steps = np.einsum("ipk,pk->ip", ratios.reshape(len(parts), *weights.shape), weights)
+    steps = low * weights[:, 0] + high * weights[:, 1]
     out[uncertain] = (centres[:, None] + steps) * step
     return out
 
@@ -165,17 +176,19 @@ def _merge(a: Node, b: Node) -> Node:
     return Node(a.start + b.start + lo, masses[lo : hi + 1], (a, b))
 
 
-def _leaf_ratios(root: Node, points: np.ndarray, progress: Progress) -> np.ndarray:
-    """For each leaf (in order) and grid point t: sum_k (k - c_i) p_i[k] O_i[t - k] divided
-    by sum_k p_i[k] O_i[t - k] (0 where the total has no mass at t)."""
-    # outside[r, s]: the node's outside at grid index t_r - stop + s, s over the node's width.
-    first = np.zeros((len(points), len(root.masses)))
+def _leaf_ratios(root: Node, points: np.ndarray, reach: int, progress: Progress) -> np.ndarray:
+    """(leaves in order, points, reach + 1): for each grid point t + o (o = 0..reach),
+    sum_k (k - c_i) p_i[k] O_i[t + o - k] over sum_k p_i[k] O_i[t + o - k] (0 where the
+    total has no mass there)."""
+    # outside[r, s]: the node's outside at grid index t_r - stop + s, s over the node's
+    # width plus `reach`, so that the windows of t_r + o are its slices [o, o + width).
+    first = np.zeros((len(points), len(root.masses) + reach))
     at = root.stop - points  # the outside of the root is a unit mass at 0
-    hit = (at >= 0) & (at < len(root.masses))
+    hit = (at >= 0) & (at < first.shape[1])
     first[np.nonzero(hit)[0], at[hit]] = 1.0
     rows: list[tuple[int, np.ndarray]] = []
     if root.children is None:  # one uncertain item: it is the total
-        return _ratio(first, root, root.masses, root.weighted, root.start)[None, :]
+        return _ratio(first, root, root.masses, root.weighted, root.start, reach)[None]
     stack = [(root, first)]
     leaves = _number_leaves(root)
     while stack:
@@ -183,21 +196,25 @@ def _leaf_ratios(root: Node, points: np.ndarray, progress: Progress) -> np.ndarr
         assert node.children is not None  # only inner nodes are stacked
         for child, sibling in (node.children, node.children[::-1]):
             if child.children is not None:
-                stack.append((child, _outside_of(child, sibling, node, outside)))
+                stack.append((child, _outside_of(child, sibling, node, outside, reach)))
                 continue
             # A leaf's numerator and mass straight from its parent's outside: one short
             # convolution with its sibling instead of a window for every total.
             plain = _convolve(child.masses, sibling.masses)
             weighted = _convolve(child.weighted, sibling.masses)
-            rows.append(
-                (child.index, _ratio(outside, node, plain, weighted, child.start + sibling.start))
-            )
+            start = child.start + sibling.start
+            rows.append((child.index, _ratio(outside, node, plain, weighted, start, reach)))
         progress.report(len(rows) / leaves)
     return np.array([row for _, row in sorted(rows, key=lambda r: r[0])])
 
 
 def _ratio(
-    outside: np.ndarray, node: Node, plain: np.ndarray, weighted: np.ndarray, start: int
+    outside: np.ndarray,
+    node: Node,
+    plain: np.ndarray,
+    weighted: np.ndarray,
+    start: int,
+    reach: int,
 ) -> np.ndarray:
     """Weighted over plain mass of the configurations that make each total, from the node's
     outside windows and two lattices over (a part of) the node's support."""
@@ -206,16 +223,20 @@ def _ratio(
     if hi >= lo:
         placed[0, lo - node.start : hi - node.start + 1] = plain[lo - start : hi - start + 1]
         placed[1, lo - node.start : hi - node.start + 1] = weighted[lo - start : hi - start + 1]
-    mass, moment = (outside @ placed[:, ::-1].T).T
+    windows = sliding_window_view(outside, len(node.masses), axis=1)[:, : reach + 1]
+    sums = windows @ placed[:, ::-1].T  # (points, reach + 1, 2)
+    mass, moment = sums[..., 0], sums[..., 1]
     return np.where(mass > NO_MASS, moment / np.maximum(mass, NO_MASS), 0.0)
 
 
-def _outside_of(child: Node, sibling: Node, parent: Node, outside: np.ndarray) -> np.ndarray:
+def _outside_of(
+    child: Node, sibling: Node, parent: Node, outside: np.ndarray, reach: int
+) -> np.ndarray:
     """The child's outside windows: the parent's convolved with the sibling's lattice."""
     full = _convolve(outside, sibling.masses)
     offset = parent.stop - child.stop - sibling.start
-    out = np.zeros((outside.shape[0], len(child.masses)))
-    lo, hi = max(offset, 0), min(offset + len(child.masses), full.shape[1])
+    out = np.zeros((outside.shape[0], len(child.masses) + reach))
+    lo, hi = max(offset, 0), min(offset + out.shape[1], full.shape[1])
     if hi > lo:
         out[:, lo - offset : hi - offset] = full[:, lo:hi]
     return out
