@@ -10,9 +10,17 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, analyze
+from engine import (
+    CorrelationPair,
+    CorrelationSpec,
+    Estimate,
+    LineItem,
+    analyze,
+    build_distribution,
+)
 from engine.allocation import allocate
 from engine.allocation.naive import naive_shares
+from engine.allocation.simulated_shares import simulated_means, window_edges
 from engine.families.distributions import Triangular
 
 Z90 = stats.norm.ppf(0.9)
@@ -65,6 +73,19 @@ def test_the_simulated_allocation_conditions_on_the_analysis_own_trials() -> Non
     analysis = analyze(est, levels=(50, 90), trials=40_000, seed=3)
     first, second = allocate(est, analysis), allocate(est, analysis)
     assert first.to_dict() == second.to_dict()
+    dists = [build_distribution(i) for i in items]
+    levels = [r.level for r in analysis.levels]
+    rerun = simulated_means(
+        dists,
+        analysis.dependence.pearson_used,
+        [r.value for r in analysis.levels],
+        window_edges(analysis.total, levels),
+        trials=analysis.trials,
+        seed=analysis.seed,
+        sampling=analysis.sampling,
+    )
+    np.testing.assert_array_equal(rerun.total.by_replicate, analysis.total.by_replicate)
+    assert np.all(rerun.window_trials > 0)
     for row in first.levels:
         assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
     assert first.at(50).groups["Risks"] < 1.0  # P50 is reached without the strike

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from engine.exact.totals import SampleTotal
 from engine.families.distributions import Distribution
 from engine.progress import Progress
 from engine.simulation.iman_conover import ImanConoverPairing
@@ -33,6 +34,7 @@ class SimulatedMeans:
     means: np.ndarray  # (items, totals)
     standard_errors: np.ndarray  # (items, totals)
     window_trials: np.ndarray  # (totals,): trials with weight in each window
+    total: SampleTotal  # the re-run's total: the analysis's own trials
 
 
 class WindowSums:
@@ -92,7 +94,7 @@ def simulated_means(
     below = np.maximum(t - np.asarray(window_edges[0], dtype=float), 1e-12 * (1 + np.abs(t)))
     above = np.maximum(np.asarray(window_edges[1], dtype=float) - t, 1e-12 * (1 + np.abs(t)))
     sums = WindowSums(t, below, above)
-    simulate(
+    rerun = simulate(
         dists,
         trials=trials,
         seed=seed,
@@ -114,7 +116,7 @@ def simulated_means(
     )
     spread = jack - jack.mean(axis=0)
     se = np.sqrt((reps - 1) / reps * np.sum(spread * spread, axis=0))
-    return SimulatedMeans(means, se, counts.sum(axis=0))
+    return SimulatedMeans(means, se, counts.sum(axis=0), rerun)
 
 
 def window_edges(total, levels: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
