@@ -3,7 +3,7 @@
 On a common grid of step h each item is a lattice of hat-function masses p_i[k] (the exact
 machinery's `item_lattice`: means kept, point masses on grid points). For a grid point t,
 
-    E[X_i | T = t] = c_i + sum_k (k - c_i) h p_i[k] O_i[t - k] / sum_k p_i[k] O_i[t - k],
+    E[X_i | T = t h] = h (c_i + sum_k (k - c_i) p_i[k] O_i[t - k] / sum_k p_i[k] O_i[t - k]),
 
 where O_i is the lattice of the sum of every other item and c_i the grid point nearest the
 item's mean (it keeps the numbers small). Summed over items the numerators are (t - sum c_i)
@@ -15,7 +15,9 @@ its parent's outside convolved with its sibling, and only the window t - (the no
 support) is ever needed: as wide as the node's own lattice, for each wanted t. The work is
 about that of the total's own convolution, whatever the number of items. A total between
 two grid points gets the linear interpolation of its neighbours' conditional means, which
-still adds up to t exactly.
+still adds up to t exactly (one window row, one point wider, serves both neighbours). Fixed
+items are a shift; a total stretched past MAX_WIDTH points by a heavy tail gets a coarser
+grid.
 """
 
 from __future__ import annotations
