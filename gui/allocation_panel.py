@@ -126,6 +126,18 @@ class AllocationPanel(QWidget):
         self.worker.request(estimate, analysis)
         self._show_budget()
 
+    def clear(self, message: str) -> None:
+        """No analysis to allocate: drop the figures of an earlier one and say why."""
+        self.worker.cancel()
+        self.allocation = self.analysis = None
+        self.table.setRowCount(0)
+        self.level.clear()
+        self.base_said.setText("")
+        self.budget_said.setText("")
+        self.note.setText("")
+        self.status.setText(message)
+        self.chart.show_message(message)
+
     def allocation_for(self, analysis: Analysis) -> Allocation | None:
         """The allocation shown, if it is of this analysis (for the report)."""
         shown = self.allocation

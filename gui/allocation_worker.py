@@ -60,6 +60,8 @@ class AllocationWorker(QObject):
         self._pool.start(self._job)
 
     def cancel(self) -> None:
+        """Stop the running job; a result it still sends is dropped (its id is old)."""
+        self.latest_id += 1
         if self._job is not None:
             self._job.stop.set()
             self._job = None

@@ -196,6 +196,7 @@ class ResultsPanel(QWidget):
         self.reasons.setText("")
         for canvas in self.canvases:
             canvas.show_message("Nothing to show until the estimate can be computed.")
+        self.allocation.clear("Nothing to allocate until the estimate can be computed.")
 
     def set_notices(self, notices: list[str]) -> None:
         shown = [n for n in notices if n]

@@ -112,3 +112,12 @@ def test_risk_events_view_and_newest_request_wins(make_window, qtbot):
         panel.compute(first, analysis)
         panel.compute(first, analysis)
     assert panel.worker.latest_id >= 2 and blocker.args[0] is panel.allocation
+
+
+def test_a_failed_analysis_clears_the_allocation(make_window, qtbot):
+    window = make_window()
+    panel = open_and_allocate(window, qtbot, two_uniforms(), exact_settings())
+    assert panel.table.rowCount() > 0
+    window.results.show_problem("row 2, column 'High': the high value is below the low.")
+    assert panel.allocation is None and panel.table.rowCount() == 0
+    assert "Nothing to allocate" in panel.status.text()
