@@ -37,7 +37,9 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         names = list(row.groups)
         shares = [row.groups[g] for g in names]
         naive = [None if row.naive_groups is None else row.naive_groups[g] for g in names]
-        errors: list[float | None] = [None] * len(names)
+        errors: list[float | None] = [
+            None if row.group_errors is None else row.group_errors[g] for g in names
+        ]
     else:
         names, shares = list(allocation.names), list(row.shares)
         naive = [None] * len(names) if row.naive is None else list(row.naive)
@@ -188,7 +190,7 @@ class AllocationPanel(QWidget):
                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
                     )
                 self.table.setItem(r, c, item)
-        self.table.setColumnHidden(5, allocation.method == "exact" or by == "group")
+        self.table.setColumnHidden(5, allocation.method == "exact")
         self.note.setText(allocation.levels[j].note)
         from charts.allocation import draw_allocation
 

@@ -81,7 +81,14 @@ def group_table(allocation: Allocation, shown: list[int] | None = None) -> Table
         }
     )
     columns = [Column("Group", "text", lambda r: r["name"])]
-    return make_table(columns + _share_columns(allocation, "share", "naive", shown), records)
+    columns += _share_columns(allocation, "share", "naive", shown)
+    top = allocation.levels[-1]
+    if top.group_errors is not None:
+        errors = top.group_errors
+        columns.append(
+            Column(f"P{top.level:g} standard error", "money", lambda r: errors.get(r["name"]))
+        )
+    return make_table(columns, records)
 
 
 def item_table(

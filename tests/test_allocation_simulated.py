@@ -89,6 +89,11 @@ def test_the_simulated_allocation_conditions_on_the_analysis_own_trials() -> Non
     for row in first.levels:
         assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
     assert first.at(50).groups["Risks"] < 1.0  # P50 is reached without the strike
+    # a group of one item has that item's standard error; a group of two, its sum's
+    p90 = first.at(90)
+    assert p90.group_errors is not None
+    assert p90.group_errors["Risks"] == pytest.approx(p90.standard_errors[2], rel=1e-12)
+    assert 0 < p90.group_errors["Build"] <= p90.standard_errors[0] + p90.standard_errors[1]
     assert first.at(90).groups["Risks"] > 0.5 * first.at(90).contingency
     json.dumps(first.to_dict(), allow_nan=False)
 

@@ -21,7 +21,7 @@ from engine.allocation.confidence import Confidence, confidence_of
 from engine.allocation.exact_shares import conditional_means
 from engine.allocation.naive import naive_shares
 from engine.allocation.risk_ranking import RankedRisk, rank_risk_events
-from engine.allocation.simulated_shares import simulated_means, window_edges
+from engine.allocation.simulated_shares import jackknife_error, simulated_means, window_edges
 from engine.items import Estimate
 from engine.progress import Progress
 from engine.validation import base_value, build_distribution
@@ -46,6 +46,7 @@ class LevelAllocation:
     groups: dict[str, float]
     naive_groups: dict[str, float] | None
     note: str
+    group_errors: dict[str, float] | None = None  # simulated only
 
     def to_dict(self, names: Sequence[str]) -> dict[str, Any]:
         return {
@@ -68,6 +69,7 @@ class LevelAllocation:
                     "group": g,
                     "share": v,
                     "naive": None if self.naive_groups is None else self.naive_groups[g],
+                    "standard_error": None if self.group_errors is None else self.group_errors[g],
                 }
                 for g, v in self.groups.items()
             ],
@@ -123,7 +125,7 @@ def allocate(
     bases = [base_value(i)[0] for i in items]
     totals = [row.value for row in analysis.levels]
     levels = [row.level for row in analysis.levels]
-    errors = None
+    errors = group_jack = None
     if analysis.dependence is None:
         method = "exact"
         means = conditional_means(dists, totals, progress=tracker)
@@ -141,6 +143,7 @@ def allocate(
             progress=tracker,
         )
         means, errors = found.means, found.standard_errors
+        group_jack = found.jackknife
     groups = [i.group.strip() or UNGROUPED for i in items]
     base = analysis.base_estimate
     rows = []
@@ -158,6 +161,9 @@ def allocate(
                 naive=None if naive is None else naive.tolist(),
                 groups=by_group(groups, shares),
                 naive_groups=None if naive is None else by_group(groups, naive),
+                group_errors=None
+                if group_jack is None
+                else group_standard_errors(groups, group_jack[:, :, j]),
                 note=difference_note(
                     level,
                     contingency,
@@ -179,6 +185,14 @@ def allocate(
         risk_events=rank_risk_events(items, dists, shares_by_level),
         compute_seconds=time.perf_counter() - started,
     )
+
+
+def group_standard_errors(groups: Sequence[str], leave_one_out: np.ndarray) -> dict[str, float]:
+    """Each group's standard error: the jackknife of its items' summed estimates."""
+    names = list(dict.fromkeys(groups))
+    member = np.array([[g == name for g in groups] for name in names], dtype=float)
+    errors = jackknife_error(leave_one_out @ member.T)  # (replicates, groups) -> (groups,)
+    return dict(zip(names, errors.tolist(), strict=True))
 
 
 def by_group(groups: Sequence[str], values: np.ndarray) -> dict[str, float]:

@@ -33,6 +33,7 @@ WINDOW = 0.02
 class SimulatedMeans:
     means: np.ndarray  # (items, totals)
     standard_errors: np.ndarray  # (items, totals)
+    jackknife: np.ndarray  # (replicates, items, totals): the estimates, one replicate left out
     window_trials: np.ndarray  # (totals,): trials with weight in each window
     total: SampleTotal  # the re-run's total: the analysis's own trials
 
@@ -114,9 +115,16 @@ def simulated_means(
             for r in range(reps)
         ]
     )
-    spread = jack - jack.mean(axis=0)
-    se = np.sqrt((reps - 1) / reps * np.sum(spread * spread, axis=0))
-    return SimulatedMeans(means, se, counts.sum(axis=0), rerun)
+    se = jackknife_error(jack)
+    return SimulatedMeans(means, se, jack, counts.sum(axis=0), rerun)
+
+
+def jackknife_error(leave_one_out: np.ndarray) -> np.ndarray:
+    """Standard error from estimates with one replicate left out each (replicate first);
+    sums of items' estimates (a group's) give the sum's error."""
+    reps = leave_one_out.shape[0]
+    spread = leave_one_out - leave_one_out.mean(axis=0)
+    return np.sqrt((reps - 1) / reps * np.sum(spread * spread, axis=0))
 
 
 def window_edges(total, levels: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
