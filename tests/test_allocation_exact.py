@@ -3,8 +3,13 @@ against closed forms, enumeration and a large seeded simulation of its own."""
 
 from __future__ import annotations
 
+import ast
 import itertools
+import json
 import math
+import subprocess
+import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -221,3 +226,37 @@ def test_a_heavy_tail_coarsens_the_grid_and_still_adds_up() -> None:
         assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * abs(row.total))
     # the far tail is the claim's
     assert alloc.at(99).shares[1] > 0.99 * alloc.at(99).contingency
+
+
+def test_allocation_and_comparison_stay_in_the_pure_engine() -> None:
+    # numpy and scipy only: no Qt, plotting or workbooks, imported or reachable in the source
+    root = Path(__file__).resolve().parents[1]
+    probe = (
+        "import json, sys, engine, engine.comparison\n"
+        "from engine.allocation import allocate\n"
+        "e = engine.Estimate(items=[engine.LineItem('Roof', 'triangular', low=1.0,"
+        " most_likely=2.0, high=4.0), engine.LineItem('Hail', 'fixed', most_likely=3.0,"
+        " probability=0.2)])\n"
+        "allocate(e, engine.analyze(e, method='exact'))\n"
+        "print(json.dumps(sorted({m.split('.')[0] for m in sys.modules})))\n"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", probe], cwd=root, capture_output=True, text=True, check=True
+    )
+    roots = set(json.loads(out.stdout.strip().splitlines()[-1]))
+    assert not roots & {"PySide6", "matplotlib", "openpyxl"}
+    for folder in ("allocation", "comparison"):
+        for path in sorted((root / "engine" / folder).glob("*.py")):
+            for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+                if isinstance(node, ast.ImportFrom) and node.module:
+                    assert node.module.split(".")[0] in {
+                        "engine",
+                        "numpy",
+                        "scipy",
+                        "collections",
+                        "dataclasses",
+                        "typing",
+                        "math",
+                        "time",
+                        "__future__",
+                    }, (path.name, node.module)
