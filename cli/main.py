@@ -11,7 +11,10 @@ from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
+from cli.allocation_text import add_budget_option, parse_budgets, print_allocation
+from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
+from engine.allocation import allocate
 from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
@@ -28,6 +31,22 @@ class OneLineParser(argparse.ArgumentParser):
         raise UsageProblem(f"{self.prog}: {message}. Fix: see '{self.prog} --help'.")
 
 
+def add_analysis_options(parser: argparse.ArgumentParser) -> None:
+    """The settings an analysis takes, shared by `report` and `compare`."""
+    parser.add_argument("--levels", help="confidence levels in percent, e.g. 50,80,90")
+    parser.add_argument("--method", choices=("auto", "exact", "simulation"))
+    parser.add_argument("--trials", type=int, help="simulation trials (default 100000)")
+    parser.add_argument("--seed", type=int, help="simulation seed")
+    parser.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
+    parser.add_argument("--sampling", choices=("lhs", "random"))
+    parser.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
+    parser.add_argument(
+        "--accept-repair",
+        action="store_true",
+        help="use the nearest valid correlation matrix when the stated one is not valid",
+    )
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = OneLineParser(
         prog="rangefold",
@@ -40,18 +59,10 @@ def build_parser() -> argparse.ArgumentParser:
     report.add_argument("input", help="estimate: .csv, .tsv, .txt, .xlsx, .xlsm or .rangefold")
     report.add_argument("-o", "--output", help="report file: .xlsx, .pdf or .json")
     report.add_argument("--json", action="store_true", help="print the analysis as JSON")
-    report.add_argument("--levels", help="confidence levels in percent, e.g. 50,80,90")
-    report.add_argument("--method", choices=("auto", "exact", "simulation"))
-    report.add_argument("--trials", type=int, help="simulation trials (default 100000)")
-    report.add_argument("--seed", type=int, help="simulation seed")
-    report.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
-    report.add_argument("--sampling", choices=("lhs", "random"))
-    report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
-    report.add_argument(
-        "--accept-repair",
-        action="store_true",
-        help="use the nearest valid correlation matrix when the stated one is not valid",
-    )
+    add_analysis_options(report)
+
+    add_budget_option(report)
+    add_compare_parser(commands)
 
     check = commands.add_parser("check", help="validate an estimate and list its problems")
     check.add_argument("input")
@@ -74,6 +85,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         if args.command == "check":
             return check(Path(args.input), sys.stdout, sys.stderr)
+        if args.command == "compare":
+            return compare_command(args, sys.stdout, sys.stderr)
         return report(args, sys.stdout, sys.stderr)
     except InputError as bad:
         return _problems([str(p) for p in bad.problems], sys.stderr)
@@ -182,25 +195,33 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.accept_repair:
         estimate.correlation.accept_repair = True
     settings = settings_for(args, estimate)
+    budgets = parse_budgets(args.budget)
     analysis = analyze(estimate, **settings.analyze_kwargs())
+    allocation = allocate(estimate, analysis, budgets=budgets)
     if args.output:
         from reports import write_report
 
         written = write_report(
-            args.output, estimate, analysis, settings, source_path=path, paper=args.paper
+            args.output,
+            estimate,
+            analysis,
+            settings,
+            source_path=path,
+            paper=args.paper,
+            allocation=allocation,
         )
         print(f"report written: {written}", file=err if args.json else out)
     if args.json:
         from reports.json_report import dumps
         from reports.provenance import provenance
 
-        print(dumps(analysis, provenance(estimate, settings, path)), file=out)
+        print(dumps(analysis, provenance(estimate, settings, path), allocation), file=out)
     elif not args.output:
-        print_summary(analysis, settings.unit or estimate.unit, out)
+        print_summary(analysis, settings.unit or estimate.unit, out, allocation)
     return OK
 
 
-def print_summary(analysis, unit: str, out: TextIO) -> None:
+def print_summary(analysis, unit: str, out: TextIO, allocation=None) -> None:
     """The levels as a terminal table, for a quick look without writing a file."""
     from reports.caution import CAUTION
 
@@ -215,4 +236,6 @@ def print_summary(analysis, unit: str, out: TextIO) -> None:
             f"{r.normal:>12,.0f} {r.gap_pct:>6.1f}%  {r.verdict}",
             file=out,
         )
+    if allocation is not None:
+        print_allocation(allocation, unit, out)
     print(CAUTION, file=out)

@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 )
 
 from engine import Estimate, Settings
+from gui.compare_dialog import compare_with
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
 from gui.item_table import ItemTableView
@@ -238,6 +239,7 @@ class MainWindow(QMainWindow):
         self._action("&Save", self.save, QKeySequence.StandardKey.Save, file_menu)
         self._action("Save &as…", self.save_as, QKeySequence.StandardKey.SaveAs, file_menu)
         self._action("&Export report…", self.export_dialog, "Ctrl+E", file_menu)
+        self._action("Co&mpare with…", lambda: compare_with(self), None, file_menu)
         file_menu.addSeparator()
         self._action("&Quit", self.close, QKeySequence.StandardKey.Quit, file_menu)
 
@@ -499,6 +501,7 @@ class MainWindow(QMainWindow):
                 outcome.analysis,
                 outcome.settings,
                 source_path=self.path or (Path(self.source) if self.source else None),
+                allocation=self.results.allocation.allocation_for(outcome.analysis),
             )
         except (OSError, ValueError) as bad:
             self._warn("The report could not be written", f"{path}: {bad}")
@@ -651,6 +654,7 @@ class MainWindow(QMainWindow):
             [f"{left_out} row(s) left out of the total: fix the marked cells."] if left_out else []
         )
         self.results.show_analysis(analysis, outcome.settings.unit, notices)
+        self.results.allocation.compute(outcome.estimate, analysis, outcome.settings.unit)
         if self.correlation_dialog is not None:
             self.correlation_dialog.panel.show_repair(None)
         self.compute_label.setText(compute_text(analysis))

@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
 )
 
 from engine import Analysis
+from gui.allocation_panel import AllocationPanel
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
 from gui.paths_panel import PATHS_TAB, PathsPanel
@@ -140,6 +141,11 @@ class ResultsPanel(QWidget):
         self.paths = PathsPanel()
         self._paths_index = self.tabs.addTab(self.paths, PATHS_TAB)
         self.tabs.setTabVisible(self._paths_index, False)
+        self.allocation = AllocationPanel()  # filled by its own worker: see compute()
+        self.tabs.addTab(self.allocation, "Allocation")
+        self.tabs.setTabToolTip(
+            self.tabs.count() - 1, "Where the contingency sits, by group and by item"
+        )
         self.tabs.currentChanged.connect(self._draw_current)
         self.repair = RepairNotice()
         self.reasons = QLabel(objectName="reasons", wordWrap=True)
@@ -196,6 +202,7 @@ class ResultsPanel(QWidget):
         self.reasons.setText("")
         for canvas in self.canvases:
             canvas.show_message("Nothing to show until the estimate can be computed.")
+        self.allocation.clear("Nothing to allocate until the estimate can be computed.")
 
     def set_notices(self, notices: list[str]) -> None:
         shown = [n for n in notices if n]

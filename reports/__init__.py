@@ -6,6 +6,7 @@ import io
 from pathlib import Path
 
 from engine import Analysis, Estimate, Settings
+from engine.allocation import Allocation, allocate
 from reports.provenance import provenance
 
 FORMATS = (".xlsx", ".pdf", ".json")
@@ -19,6 +20,7 @@ def write_report(
     *,
     source_path: str | Path | None = None,
     paper: str = "a4",
+    allocation: Allocation | None = None,
 ) -> Path:
     """Write the report to `path` (.xlsx, .pdf or .json) and return it.
 
@@ -35,18 +37,20 @@ def write_report(
             f"use {', '.join(FORMATS)}."
         )
     about = provenance(estimate, settings, source_path)
+    if allocation is None:  # where the contingency sits: every report carries it
+        allocation = allocate(estimate, analysis)
     stream = io.BytesIO()
     if suffix == ".xlsx":
         from reports.xlsx import write_xlsx
 
-        write_xlsx(stream, estimate, analysis, about)
+        write_xlsx(stream, estimate, analysis, about, allocation=allocation)
     elif suffix == ".pdf":
         from reports.pdf import write_pdf
 
-        write_pdf(stream, estimate, analysis, about, paper=paper)
+        write_pdf(stream, estimate, analysis, about, paper=paper, allocation=allocation)
     else:
         from reports.json_report import dumps
 
-        stream.write((dumps(analysis, about) + "\n").encode("utf-8"))
+        stream.write((dumps(analysis, about, allocation) + "\n").encode("utf-8"))
     write_atomic(path, stream.getvalue(), backup=False)
     return path

@@ -16,6 +16,7 @@ from charts.gap import draw_gap_curve
 from charts.style import TEXT, display_text
 from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
+from engine.allocation import Allocation
 from reports import content
 from reports.content import Kind, Table
 
@@ -198,6 +199,7 @@ def write_pdf(
     analysis: Analysis,
     about: dict[str, Any],
     paper: str = "a4",
+    allocation: Allocation | None = None,
 ) -> int:
     """Write the report; returns the number of pages."""
     if paper not in PAPER:
@@ -211,6 +213,10 @@ def write_pdf(
         from reports.paths_report import paths_pages  # it builds on this module's pages
 
         pages += paths_pages(analysis, about, paper, footer)
+    if allocation is not None:
+        from reports.allocation_pdf import allocation_pages
+
+        pages += allocation_pages(allocation, about["unit"], paper, footer)
     pages += _item_pages(estimate, paper, footer)
     dependence = content.dependence_of(analysis)
     if dependence is not None:

@@ -14,6 +14,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
 from engine import Analysis, Estimate
+from engine.allocation import Allocation
 from fileio.cells import FORMULA_STARTS
 from reports import content
 from reports.content import Kind, Table
@@ -62,7 +63,11 @@ def put_table(sheet: Worksheet, top: int, table: Table, left: int = 1) -> int:
 
 
 def write_xlsx(
-    target: BinaryIO, estimate: Estimate, analysis: Analysis, about: dict[str, Any]
+    target: BinaryIO,
+    estimate: Estimate,
+    analysis: Analysis,
+    about: dict[str, Any],
+    allocation: Allocation | None = None,
 ) -> None:
     book = Workbook()
     summary = book.active
@@ -72,6 +77,10 @@ def write_xlsx(
     drivers = _data_sheet(book, "Drivers", content.driver_table(analysis))
     percentiles = _data_sheet(book, "Percentiles", content.percentile_table(analysis))
     _charts_sheet(book, analysis, drivers, percentiles, about["unit"])
+    if allocation is not None:
+        from reports.allocation_xlsx import allocation_sheets
+
+        allocation_sheets(book, allocation)
     dependence = content.dependence_of(analysis)
     if dependence is not None:
         _dependence_sheet(book, dependence)

@@ -78,7 +78,7 @@ def test_native_scatter_and_bar_charts(mixed_report):
     *_, path = mixed_report
     with zipfile.ZipFile(path) as archive:
         charts = [archive.read(n) for n in archive.namelist() if n.startswith("xl/charts/chart")]
-    assert len(charts) == 2
+    assert len(charts) == 3  # S-curve, drivers, contingency by group
     assert any(b"scatterChart" in c for c in charts)
     assert any(b"barChart" in c for c in charts)
 

@@ -267,6 +267,64 @@ NOTES = (
 )
 
 
+def response_plan_pair() -> tuple[Scenario, Scenario]:
+    """An invented estimate before and after its risk response plan, for `rangefold compare`:
+    the plan adds a ground investigation and early works, closes one risk, narrows two."""
+    # fmt: off
+    base = (
+        ("Design and approvals", "triangular", 310_000, 340_000, 410_000, _, _, _, "Design"),
+        ("Temporary works design", "pert", 95_000, 105_000, 140_000, _, _, _, "Design"),
+        ("Piled abutments", "pert", 720_000, 790_000, 980_000, _, _, _, "Substructure"),
+        ("River pier and cofferdam", "triangular", 880_000, 960_000, 1_250_000, _, _, _, "Substructure"),
+        ("Steel deck fabrication", "triangular", 1_350_000, 1_450_000, 1_720_000, _, _, _, "Superstructure"),
+        ("Deck erection by crane", "pert", 410_000, 450_000, 560_000, _, _, _, "Superstructure"),
+        ("Parapets and surfacing", "uniform", 260_000, _, 320_000, _, _, _, "Finishes"),
+        ("Lighting and handrail heating", "triangular", 140_000, 155_000, 190_000, _, _, _, "Finishes"),
+        ("Site management, 40 weeks", "normal", 520_000, _, 610_000, 10, 90, _, "Preliminaries"),
+        ("Demolish old footbridge", "triangular", 180_000, 200_000, 260_000, _, _, _, "Preliminaries"),
+    )
+    before_risks = (
+        ("Risk: piling meets old river wall obstruction", "triangular", 250_000, 420_000, 900_000, _, _, 0.30, "Risk events"),
+        ("Risk: river works window missed, wait a season", "pert", 600_000, 850_000, 1_500_000, _, _, 0.20, "Risk events"),
+        ("Risk: gas main found in abutment, divert", "triangular", 150_000, 220_000, 400_000, _, _, 0.25, "Risk events"),
+        ("Risk: steel price rise before order", "uniform", 80_000, _, 260_000, _, _, 0.40, "Risk events"),
+    )
+    after_items = (
+        ("Ground investigation at abutments", "fixed", _, 85_000, _, _, _, _, "Design"),
+        ("Early cofferdam works to widen river window", "triangular", 120_000, 140_000, 175_000, _, _, _, "Substructure"),
+    )
+    after_risks = (
+        ("Risk: piling meets old river wall obstruction", "triangular", 150_000, 260_000, 500_000, _, _, 0.10, "Risk events"),
+        ("Risk: river works window missed, wait a season", "pert", 600_000, 850_000, 1_500_000, _, _, 0.05, "Risk events"),
+        ("Risk: steel price rise before order", "uniform", 80_000, _, 140_000, _, _, 0.40, "Risk events"),
+    )
+    # fmt: on
+    notes = "Cost estimate in EUR, current prices. Risk events carry a probability of occurrence."
+    before = Scenario(
+        stem="footbridge_before_response_plan",
+        title="Demo river footbridge - before the risk response plan",
+        notes=(notes, "Invented scenario: compare it with footbridge_after_response_plan.xlsx."),
+        unit="EUR",
+        teaches="four open risks carry most of the P80 contingency",
+        rows=base + before_risks,
+    )
+    after = Scenario(
+        stem="footbridge_after_response_plan",
+        title="Demo river footbridge - after the risk response plan",
+        notes=(
+            notes,
+            "Invented scenario: ground investigation and early works bought; gas main located and cleared.",
+        ),
+        unit="EUR",
+        teaches="mitigation costs less than the contingency it releases at P80",
+        rows=base[:2] + after_items[:1] + base[2:4] + after_items[1:] + base[4:] + after_risks,
+    )
+    return before, after
+
+
+RESPONSE_PLAN = response_plan_pair()
+
+
 def header_row() -> int:
     """Title, two note lines and a blank line sit above the header."""
     return 5
@@ -361,7 +419,7 @@ def write_csv(scenario: Scenario, path: Path) -> None:
 def main(folder: Path = SAMPLE_DIR) -> list[Path]:
     folder.mkdir(parents=True, exist_ok=True)
     written = []
-    for scenario in SCENARIOS:
+    for scenario in (*SCENARIOS, *RESPONSE_PLAN):
         path = folder / f"{scenario.stem}.xlsx"
         write_workbook(scenario, path)
         written.append(path)

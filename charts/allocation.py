@@ -1,0 +1,88 @@
+"""Where the contingency sits at one level: each group's (or item's) share by conditional
+expectation beside the naive share, as horizontal bars, so the gap between the two reads at
+a glance."""
+
+from __future__ import annotations
+
+import numpy as np
+from matplotlib.axes import Axes
+
+from charts.style import (
+    FONT_SIZE,
+    HISTOGRAM_FILL,
+    NORMAL,
+    TOTAL,
+    display_text,
+    money_axis,
+    style_axes,
+)
+from engine.allocation import Allocation
+
+LABEL_CHARS = 34
+
+
+def allocation_bars(allocation: Allocation, level: float, by: str = "group", top: int = 12):
+    """(names, shares, naive shares or None) at the level, largest share first; `by` is
+    "group", "item" or "risk event"."""
+    row = allocation.at(level)
+    if by == "group":
+        names = list(row.groups)
+        shares = [row.groups[g] for g in names]
+        naive = None if row.naive_groups is None else [row.naive_groups[g] for g in names]
+    else:
+        names, shares, naive = list(allocation.names), list(row.shares), row.naive
+    kept = range(len(names))
+    if by == "risk event":
+        events = {r.name for r in allocation.risk_events}
+        kept = [k for k in kept if names[k] in events]
+    order = sorted(kept, key=lambda k: -abs(shares[k]))[:top]
+    return (
+        [names[k] for k in order],
+        [shares[k] for k in order],
+        None if naive is None else [naive[k] for k in order],
+    )
+
+
+def draw_allocation(
+    ax: Axes, allocation: Allocation, level: float, by: str = "group", unit: str = "", top: int = 12
+) -> None:
+    names, shares, naive = allocation_bars(allocation, level, by, top)
+    row = allocation.at(level)
+    y = np.arange(len(names))[::-1]
+    height = 0.38
+    ax.barh(
+        y + height / 2,
+        shares,
+        height=height,
+        color=TOTAL.color,
+        edgecolor=TOTAL.color,
+        label="Conditional expectation",
+        gid="conditional",
+    )
+    if naive is not None:
+        ax.barh(
+            y - height / 2,
+            naive,
+            height=height,
+            color=HISTOGRAM_FILL,
+            edgecolor=NORMAL.color,
+            hatch="////",
+            lw=0.8,
+            label="Naive (own percentile, scaled)",
+            gid="naive",
+        )
+    ax.set_yticks(y, [_short(n) for n in names], fontsize=FONT_SIZE)
+    ax.axvline(0, color="#4b5563", lw=0.8)
+    style_axes(ax, f"Contingency at P{row.level:g} by {by}")
+    ax.grid(False, axis="y")
+    money_axis(ax.xaxis)
+    ax.set_xlabel(
+        f"Share of the contingency ({unit})" if unit else "Share of the contingency",
+        fontsize=FONT_SIZE,
+    )
+    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+
+
+def _short(name: str) -> str:
+    name = display_text(name)
+    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"

@@ -1,0 +1,134 @@
+"""E[X_i | T = t] for correlated items, from the trials whose total lies near t.
+
+The correlated simulation is run again with the analysis's seed, so its trials are the
+analysis's own, and each replicate's item values pass by an observer that keeps, for each
+wanted total t, kernel-weighted sums over the trials in a window around t. The conditional
+mean is then the intercept of a weighted local-linear fit of X_i on T - t. Because the
+items add up to T, the intercepts add up to exactly t (the same fit of T on T - t has
+intercept t): the shares need no scaling. Standard errors come from deleting one
+replicate at a time (the jackknife), replicates being independent.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from engine.exact.totals import SampleTotal
+from engine.families.distributions import Distribution
+from engine.progress import Progress
+from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.replicates import simulate
+from engine.threads import PARTS
+
+# Half-width of the window around P_q, in probability: 2% of the trials on each side, less
+# near the ends (common practice for kernel regression, no source; the bias is measured in
+# tests/test_allocation_simulated.py).
+WINDOW = 0.02
+
+
+@dataclass(frozen=True)
+class SimulatedMeans:
+    means: np.ndarray  # (items, totals)
+    standard_errors: np.ndarray  # (items, totals)
+    jackknife: np.ndarray  # (replicates, items, totals): the estimates, one replicate left out
+    window_trials: np.ndarray  # (totals,): trials with weight in each window
+    total: SampleTotal  # the re-run's total: the analysis's own trials
+
+
+class WindowSums:
+    """The `observe` hook: per replicate, kernel-weighted sums near each wanted total."""
+
+    def __init__(self, totals: np.ndarray, below: np.ndarray, above: np.ndarray):
+        self.totals, self.below, self.above = totals, below, above
+        self.by_lane: list[list[tuple[np.ndarray, ...]]] = [[] for _ in range(PARTS)]
+
+    def __call__(self, lane: int, values: np.ndarray, total: np.ndarray, positions) -> None:
+        d = total[None, :] - self.totals[:, None]  # (totals, trials)
+        w = np.where(d < 0, 1 + d / self.below[:, None], 1 - d / self.above[:, None])
+        np.maximum(w, 0.0, out=w)
+        used = np.nonzero(w.any(axis=0))[0]
+        w, d = w[:, used], d[:, used]
+        near = values[:, used]
+        wd = w * d
+        self.by_lane[lane].append(
+            (
+                w.sum(axis=1),
+                wd.sum(axis=1),
+                (wd * d).sum(axis=1),
+                near @ w.T,
+                near @ wd.T,
+                (w > 0).sum(axis=1),
+            )
+        )
+
+    def stacked(self) -> list[np.ndarray]:
+        """Each sum stacked over replicates (replicate first), lanes in order."""
+        rows = [r for lane in self.by_lane for r in lane]
+        return [np.array([r[k] for r in rows]) for k in range(6)]
+
+
+def local_linear(s0, s1, s2, a, b) -> np.ndarray:
+    """Intercepts at d = 0 of the weighted fits x ~ alpha + beta d; a local mean where the
+    window's totals do not vary (a point mass at t)."""
+    det = s0 * s2 - s1 * s1
+    flat = det <= 1e-12 * s0 * np.maximum(s2, 1e-300)
+    safe = np.where(flat, 1.0, det)
+    return np.where(flat, a / s0, (s2 * a - s1 * b) / safe)
+
+
+def simulated_means(
+    dists: Sequence[Distribution],
+    pearson: np.ndarray,
+    totals: Sequence[float],
+    window_edges: tuple[Sequence[float], Sequence[float]],
+    *,
+    trials: int,
+    seed: int,
+    sampling: str,
+    progress: Progress | None = None,
+) -> SimulatedMeans:
+    """`window_edges`: (low, high) totals bounding each window, e.g. P_(q-0.02), P_(q+0.02)."""
+    t = np.asarray(totals, dtype=float)
+    below = np.maximum(t - np.asarray(window_edges[0], dtype=float), 1e-12 * (1 + np.abs(t)))
+    above = np.maximum(np.asarray(window_edges[1], dtype=float) - t, 1e-12 * (1 + np.abs(t)))
+    sums = WindowSums(t, below, above)
+    rerun = simulate(
+        dists,
+        trials=trials,
+        seed=seed,
+        sampling=sampling,
+        pairing=ImanConoverPairing(pearson),
+        observe=sums,
+        min_per_replicate=2 * len(dists),
+        progress=progress,
+    )
+    s0, s1, s2, a, b, counts = sums.stacked()  # (reps, totals) and (reps, items, totals)
+    pooled = [x.sum(axis=0) for x in (s0, s1, s2, a, b)]
+    means = local_linear(*pooled)
+    reps = s0.shape[0]
+    jack = np.array(
+        [
+            local_linear(*(p - x[r] for p, x in zip(pooled, (s0, s1, s2, a, b), strict=True)))
+            for r in range(reps)
+        ]
+    )
+    se = jackknife_error(jack)
+    return SimulatedMeans(means, se, jack, counts.sum(axis=0), rerun)
+
+
+def jackknife_error(leave_one_out: np.ndarray) -> np.ndarray:
+    """Standard error from estimates with one replicate left out each (replicate first);
+    sums of items' estimates (a group's) give the sum's error."""
+    reps = leave_one_out.shape[0]
+    spread = leave_one_out - leave_one_out.mean(axis=0)
+    return np.sqrt((reps - 1) / reps * np.sum(spread * spread, axis=0))
+
+
+def window_edges(total, levels: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
+    """P_(q - w) and P_(q + w) of the total for each level q (percent), w at most WINDOW."""
+    q = np.asarray(levels, dtype=float) / 100
+    half = np.minimum(WINDOW, np.minimum(q, 1 - q) / 2)
+    return total.ppf(q - half), total.ppf(q + half)

@@ -1,0 +1,217 @@
+"""Where the contingency sits, in the window: at a chosen level, each group's or item's
+share by conditional expectation beside the naive share (table and bars), the chance of
+the base estimate, and the confidence of a budget the user types."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QComboBox,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QSplitter,
+    QTableWidget,
+    QTableWidgetItem,
+    QVBoxLayout,
+    QWidget,
+)
+
+from engine import Analysis, Estimate
+from engine.allocation import Allocation
+from engine.allocation.confidence import confidence_of
+from gui.allocation_worker import AllocationWorker
+from gui.chart_canvas import ChartCanvas
+
+HEADERS = ["Name", "Share", "% of contingency", "Naive share", "Naive %", "Standard error"]
+
+
+def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[tuple]:
+    """(name, share, share of contingency, naive, naive share, standard error) rows,
+    largest share first."""
+    row = allocation.levels[level_index]
+    c = row.contingency
+    if by == "group":
+        names = list(row.groups)
+        shares = [row.groups[g] for g in names]
+        naive = [None if row.naive_groups is None else row.naive_groups[g] for g in names]
+        errors: list[float | None] = [
+            None if row.group_errors is None else row.group_errors[g] for g in names
+        ]
+    else:
+        names, shares = list(allocation.names), list(row.shares)
+        naive = [None] * len(names) if row.naive is None else list(row.naive)
+        errors = [None] * len(names) if row.standard_errors is None else list(row.standard_errors)
+    if by == "risk event":  # the ranking's figures beside each event's name
+        said = {
+            r.name: f"{r.name}  (p {100 * r.probability:g}%, expected {r.expected_value:,.0f})"
+            for r in allocation.risk_events
+        }
+        kept = [k for k, n in enumerate(names) if n in said]
+        names = [said[names[k]] for k in kept]
+        shares, naive, errors = ([v[k] for k in kept] for v in (shares, naive, errors))
+    out = [
+        (n, s, s / c if c > 0 else None, v, None if v is None or c <= 0 else v / c, e)
+        for n, s, v, e in zip(names, shares, naive, errors, strict=True)
+    ]
+    return sorted(out, key=lambda r: -abs(r[1]))
+
+
+def _money(x: float | None) -> str:
+    return "" if x is None else f"{x:,.0f}"
+
+
+def _percent(x: float | None) -> str:
+    return "" if x is None else f"{100 * x:.1f}%"
+
+
+class AllocationPanel(QWidget):
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.allocation: Allocation | None = None
+        self.analysis: Analysis | None = None
+        self.unit = ""
+        self.worker = AllocationWorker(self)
+        self.worker.finished.connect(self.show_allocation)
+        self.worker.failed.connect(lambda m: self.status.setText(f"Allocation failed: {m}"))
+
+        self.level = QComboBox(objectName="allocation-level")
+        self.by = QComboBox(objectName="allocation-by")
+        self.by.addItems(["By group", "By item", "Risk events"])
+        self.budget = QLineEdit(objectName="allocation-budget", placeholderText="e.g. 15.2M")
+        self.budget.setMinimumWidth(90)
+        self.budget.setMaximumWidth(140)
+        self.budget_said = QLabel(objectName="allocation-budget-said", wordWrap=True)
+        self.base_said = QLabel(objectName="allocation-base", wordWrap=True)
+        self.status = QLabel(objectName="allocation-status", wordWrap=True)
+        self.note = QLabel(objectName="allocation-note", wordWrap=True)
+        self.table = QTableWidget(0, len(HEADERS), objectName="allocation-table")
+        self.table.setHorizontalHeaderLabels(HEADERS)
+        self.table.verticalHeader().setVisible(False)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Interactive)
+        header.resizeSection(0, 170)
+        for k in range(1, len(HEADERS)):
+            header.setSectionResizeMode(k, QHeaderView.ResizeMode.ResizeToContents)
+        self.chart = ChartCanvas(height=2.6)
+
+        controls = QHBoxLayout()
+        controls.addWidget(QLabel("Level"))
+        controls.addWidget(self.level)
+        controls.addWidget(self.by)
+        controls.addSpacing(16)
+        controls.addWidget(QLabel("Budget"))
+        controls.addWidget(self.budget)
+        controls.addWidget(self.budget_said, 1)
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(self.table)
+        split.addWidget(self.chart)
+        split.setSizes([560, 440])
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(2, 2, 2, 2)
+        layout.addLayout(controls)
+        layout.addWidget(self.base_said)
+        layout.addWidget(self.status)
+        layout.addWidget(split, 1)
+        layout.addWidget(self.note)
+        self.level.currentIndexChanged.connect(self._refresh)
+        self.by.currentIndexChanged.connect(self._refresh)
+        self.budget.textChanged.connect(self._show_budget)
+
+    def compute(self, estimate: Estimate, analysis: Analysis, unit: str = "") -> None:
+        """Start the allocation of a new analysis; the old figures stay until it arrives."""
+        self.analysis, self.unit = analysis, unit
+        self.status.setText("Allocating the contingency…")
+        self.worker.request(estimate, analysis)
+        self._show_budget()
+
+    def clear(self, message: str) -> None:
+        """No analysis to allocate: drop the figures of an earlier one and say why."""
+        self.worker.cancel()
+        self.allocation = self.analysis = None
+        self.table.setRowCount(0)
+        self.level.clear()
+        self.base_said.setText("")
+        self.budget_said.setText("")
+        self.note.setText("")
+        self.status.setText(message)
+        self.chart.show_message(message)
+
+    def allocation_for(self, analysis: Analysis) -> Allocation | None:
+        """The allocation shown, if it is of this analysis (for the report)."""
+        shown = self.allocation
+        if shown is None or self.analysis is not analysis or self.worker.busy:
+            return None
+        return shown
+
+    def show_allocation(self, allocation: Allocation) -> None:
+        self.allocation = allocation
+        chosen = self.level.currentText()
+        self.level.blockSignals(True)
+        self.level.clear()
+        self.level.addItems([f"P{row.level:g}" for row in allocation.levels])
+        index = self.level.findText(chosen)
+        self.level.setCurrentIndex(index if index >= 0 else len(allocation.levels) - 1)
+        self.level.blockSignals(False)
+        base = allocation.base_confidence
+        money = f" {self.unit}" if self.unit else ""
+        self.base_said.setText(
+            f"Chance of the base estimate ({base.amount:,.0f}{money}): "
+            f"{100 * base.probability:.1f}%. Shares: E[item | total at the level] less the "
+            f"item's base value, {'exact' if allocation.method == 'exact' else 'from the trials near the level'}."
+        )
+        self.status.setText("")
+        self._refresh()
+
+    def _refresh(self) -> None:
+        allocation = self.allocation
+        if allocation is None or self.level.currentIndex() < 0:
+            return
+        j = self.level.currentIndex()
+        by = ("group", "item", "risk event")[self.by.currentIndex()]
+        rows = allocation_rows(allocation, j, by)
+        self.table.setRowCount(len(rows))
+        for r, row in enumerate(rows):
+            cells = (
+                row[0],
+                _money(row[1]),
+                _percent(row[2]),
+                _money(row[3]),
+                _percent(row[4]),
+                _money(row[5]),
+            )
+            for c, text in enumerate(cells):
+                item = QTableWidgetItem(text)
+                if c:
+                    item.setTextAlignment(
+                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+                    )
+                self.table.setItem(r, c, item)
+        self.table.setColumnHidden(5, allocation.method == "exact")
+        self.note.setText(allocation.levels[j].note)
+        from charts.allocation import draw_allocation
+
+        self.chart.show_chart(
+            draw_allocation, allocation, allocation.levels[j].level, by, self.unit
+        )
+
+    def _show_budget(self) -> None:
+        text = self.budget.text().strip()
+        if not text or self.analysis is None:
+            self.budget_said.setText("")
+            return
+        from fileio.cells import CellError, parse_number
+
+        try:
+            amount = parse_number(text)
+        except CellError as bad:
+            self.budget_said.setText(f"{bad.message} {bad.fix}")
+            return
+        said = confidence_of(self.analysis.total, amount, self.analysis.base_estimate, "budget")
+        error = "" if said.standard_error is None else f" ± {100 * said.standard_error:.2f}%"
+        self.budget_said.setText(
+            f"confidence {100 * said.probability:.1f}%{error}; contingency {said.contingency:,.0f}"
+        )
