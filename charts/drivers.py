@@ -6,7 +6,15 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.axes import Axes
 
-from charts.style import FONT_SIZE, HISTOGRAM_FILL, SKEW, TOTAL, display_text, style_axes
+from charts.style import (
+    FONT_SIZE,
+    HISTOGRAM_FILL,
+    SKEW,
+    TOTAL,
+    display_text,
+    legend_above,
+    style_axes,
+)
 from engine import Analysis
 
 LABEL_CHARS = 38
@@ -33,7 +41,7 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
         edgecolor=SKEW.color,
         hatch=SKEW.hatch,
         lw=0.8,
-        label="Share of skew (3rd cumulant)",
+        label="Share of skewness",
         gid="skew",
     )
     ax.set_yticks(y, [_short(d.name) for d in drivers], fontsize=FONT_SIZE)
@@ -41,7 +49,7 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
     style_axes(ax, f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)")
     ax.grid(False, axis="y")
     ax.set_xlabel("Share (%)", fontsize=FONT_SIZE)
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)
 
 
 def _short(name: str) -> str:

@@ -7,9 +7,10 @@ from dataclasses import dataclass
 
 from matplotlib.axes import Axes
 from matplotlib.axis import Axis
+from matplotlib.legend import Legend
 from matplotlib.ticker import FuncFormatter
 
-from engine.shortcut.verdict import compact
+from charts.numbers import compact
 
 
 @dataclass(frozen=True)
@@ -43,6 +44,38 @@ def style_axes(ax: Axes, title: str = "") -> None:
     ax.tick_params(labelsize=FONT_SIZE, colors=TEXT)
     if title:
         ax.set_title(title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc="left")
+
+
+def legend_above(ax: Axes) -> Legend:
+    """The legend in rows between the title and the plot, where it covers no bar, curve or
+    P-label; as many entries a row as the axes' width holds, the title lifted over it."""
+    handles, labels = ax.get_legend_handles_labels()
+    figure = ax.get_figure()
+    # Before layout the axes' own width is unknown (tick labels take their share), so the
+    # rows are sized on the figure, and the legend hangs from the axes' right end.
+    width = 0.85 * figure.get_figwidth() if figure else 4.0
+    entry = max(len(label) for label in labels) * FONT_SIZE * 0.55 / 72 + 0.55  # inches
+    columns = max(1, min(len(labels), int(width // entry)))
+    rows = -(-len(labels) // columns)
+    legend = ax.legend(
+        handles,
+        labels,
+        loc="lower right",
+        bbox_to_anchor=(1.0, 1.0),
+        ncols=columns,
+        fontsize=FONT_SIZE,
+        frameon=False,
+        borderaxespad=0.2,
+        borderpad=0.1,
+        columnspacing=1.2,
+        handlelength=1.8,
+    )
+    title = ax.get_title(loc="left")
+    if title:
+        ax.set_title(
+            title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc="left", pad=6 + rows * FONT_SIZE * 1.5
+        )
+    return legend
 
 
 def money_axis(axis: Axis) -> None:

@@ -219,7 +219,7 @@ def analyze(
             if method == "simulation"
             else f"{linked} pair(s) of items are correlated, so the total is simulated"
             " (exact convolution needs independent items)"
-        ) + "; the correlations are induced by Iman-Conover"
+        ) + "; the correlations are induced by Iman–Conover"
         if aims.repaired:
             why += " on the nearest valid correlation matrix (repair accepted)"
         if aims.pearson_repaired:

@@ -22,10 +22,17 @@ FORMATS: dict[Kind, str] = {
     "money": "#,##0",
     "percent": "0.0%",
     "level": '"P"0',
-    "number": "0.000",
+    "coefficient": "0.00",
+    "statistic": "0.00",
+    "number": "General",
 }
 HEADER_FILL = PatternFill("solid", fgColor="DCE7EC")
 BOLD = Font(bold=True)
+
+
+def money_format(decimals: int) -> str:
+    """'#,##0' or '#,##0.0': one number of decimals a money column, as in the PDF."""
+    return FORMATS["money"] + ("." + "0" * decimals if decimals else "")
 
 
 def put(sheet: Worksheet, row: int, column: int, value: Any, kind: Kind = "text") -> Cell:
@@ -55,9 +62,12 @@ def put_table(sheet: Worksheet, top: int, table: Table, left: int = 1) -> int:
         cell.font = BOLD
         cell.fill = HEADER_FILL
         cell.alignment = Alignment(wrap_text=True, vertical="top")
+    decimals = content.money_decimals(table)
     for r, row in enumerate(table.rows, start=top + 1):
         for k, (column, value) in enumerate(zip(table.columns, row, strict=True)):
-            put(sheet, r, left + k, value, column.kind)
+            cell = put(sheet, r, left + k, value, column.kind)
+            if column.kind == "money" and decimals and isinstance(value, int | float):
+                cell.number_format = money_format(decimals)
     return top + 1 + len(table.rows)
 
 
@@ -81,8 +91,9 @@ def write_xlsx(
 def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) -> None:
     put(sheet, 1, 1, "Contingency report").font = Font(bold=True, size=14)
     put(sheet, 2, 1, about["title"]).font = Font(bold=True, size=12)
-    if about["unit"]:
-        put(sheet, 3, 1, f"Amounts in {about['unit']}")
+    put(sheet, 3, 1, about["caution"]).font = Font(italic=True)
+    amounts = f"Amounts in {about['unit']}. " if about["unit"] else ""
+    put(sheet, 4, 1, amounts + content.NORMAL_SHORTCUT_GLOSS)
     row = put_table(sheet, 5, content.level_table(analysis)) + 1
     put(sheet, row, 1, "Verdict").font = BOLD
     for level in analysis.levels:
@@ -99,8 +110,6 @@ def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) 
         put(sheet, row, 1, label)
         put(sheet, row, 3, value, kind)
         row += 1
-    row += 1
-    put(sheet, row, 1, about["caution"]).font = Font(italic=True)
     sheet.column_dimensions["A"].width = 16
     sheet.column_dimensions["B"].width = 16
     for col in range(3, 15):

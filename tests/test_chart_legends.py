@@ -1,0 +1,41 @@
+"""Legends cover nothing (issue 16): each chart's legend sits outside the plotting area, so no
+bar, curve or P-label is hidden, in the window's small figures and on the printed page."""
+
+from __future__ import annotations
+
+import pytest
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+from report_fixtures import mixed_estimate
+
+from charts.drivers import draw_drivers
+from charts.gap import draw_gap_curve
+from charts.total import draw_density, draw_s_curve
+from engine import analyze
+
+CHARTS = (draw_density, draw_s_curve, draw_gap_curve, draw_drivers)
+
+
+@pytest.fixture(scope="module")
+def analysis():
+    return analyze(mixed_estimate(), method="simulation", trials=20_000, seed=11)
+
+
+@pytest.mark.parametrize("draw", CHARTS, ids=lambda d: d.__name__)
+@pytest.mark.parametrize("size", [(4.4, 3.2), (8.0, 3.2)], ids=["window", "page"])
+def test_legend_lies_outside_the_plot_and_below_the_title(analysis, draw, size):
+    figure = Figure(figsize=size, layout="constrained")
+    FigureCanvasAgg(figure)
+    ax = figure.add_subplot()
+    draw(ax, analysis)
+    figure.canvas.draw()
+    renderer = figure.canvas.get_renderer()
+    legend = ax.get_legend().get_window_extent(renderer)
+    plot = ax.get_window_extent(renderer)
+    title = ax.title if ax.get_title() else ax._left_title
+    assert legend.y0 >= plot.y1 - 0.5, "the legend reaches into the plotting area"
+    assert not legend.overlaps(title.get_window_extent(renderer))
+    # Every entry is shown, none cut off the figure.
+    assert figure.bbox.x0 - 0.5 <= legend.x0 and legend.x1 <= figure.bbox.x1 + 0.5
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert len(labels) == len(ax.get_legend_handles_labels()[1])
