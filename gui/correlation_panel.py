@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (
     QComboBox,
     QCompleter,
     QDialog,
+    QDialogButtonBox,
     QDoubleSpinBox,
     QFormLayout,
     QGroupBox,
@@ -142,7 +143,12 @@ class CorrelationPanel(QWidget):
         groups_layout = QVBoxLayout(groups_box)
         groups_layout.addWidget(self.groups)
         groups_layout.addWidget(
-            QLabel("Leave a coefficient empty to use the default for that group.", wordWrap=True)
+            QLabel(
+                "A group's coefficient applies to every pair of items in that group. Leave it "
+                "empty and those pairs take the coefficient under 'Every other pair'.",
+                wordWrap=True,
+                objectName="group-help",
+            )
         )
 
         self.default = QDoubleSpinBox(objectName="default-coefficient")
@@ -434,9 +440,19 @@ class CorrelationPanel(QWidget):
         box.setInsertPolicy(QComboBox.InsertPolicy.NoInsert)
         box.completer().setFilterMode(Qt.MatchFlag.MatchContains)
         box.completer().setCaseSensitivity(Qt.CaseSensitivity.CaseInsensitive)
-        box.setMinimumContentsLength(12)
+        box.setMinimumContentsLength(16)
         box.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        # Long names keep both ends readable in the list; the chosen name shows from its
+        # start, with the whole of it in the tooltip.
+        box.view().setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        box.currentTextChanged.connect(lambda text, box=box: _show_start(box, text))
         return box
+
+
+def _show_start(box: QComboBox, text: str) -> None:
+    box.setToolTip(text)
+    if not box.lineEdit().hasFocus():
+        box.lineEdit().setCursorPosition(0)
 
 
 def _legend_html() -> str:
@@ -459,4 +475,8 @@ class CorrelationDialog(QDialog):
         layout = QVBoxLayout(self)
         layout.setContentsMargins(6, 6, 6, 6)
         layout.addWidget(self.panel)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close, objectName="close")
+        buttons.rejected.connect(self.close)
+        # Edits apply as they are made (each one undoable), so Close is all the dialog needs.
+        layout.addWidget(buttons)
         self.resize(1180, 720)

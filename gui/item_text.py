@@ -8,6 +8,7 @@ parsers; display text is for reading.
 from __future__ import annotations
 
 from engine import LineItem
+from reports.content import family_name
 
 # Columns of the item table, in order; the first nine are typed by the user.
 EDIT_COLUMNS = (
@@ -81,8 +82,11 @@ def item_cells(item: LineItem) -> dict[str, str]:
 
 
 def display_cells(item: LineItem) -> dict[str, str]:
-    """Cells as shown: numbers with thousands separators, discrete values as typed."""
+    """Cells as shown: numbers with thousands separators, discrete values as typed,
+    families as the trade writes them (PERT)."""
     shown = item_cells(item)
+    if "Distribution" not in item.raw:
+        shown["Distribution"] = family_name(item.family)
     for column, value in (
         ("Low", item.low),
         ("High", item.high),

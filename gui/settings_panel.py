@@ -93,7 +93,7 @@ class SettingsPanel(QWidget):
         form = QFormLayout(self)
         form.addRow("Levels (P):", self.levels)
         form.addRow("", self.levels_problem)
-        form.addRow("Shortcut holds within:", self.tolerance)
+        form.addRow("Tolerance for the verdict:", self.tolerance)
         form.addRow("Method:", self.method)
         form.addRow("Trials:", self.trials)
         form.addRow("Seed:", seed_row)
