@@ -11,10 +11,14 @@ from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
+from charts.numbers import count
 from engine import Estimate, InputError, Settings, analyze
-from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
+GUIDE_POINTER = (
+    "What each figure means, how to read the verdict, the input formats and the limits: "
+    "the user guide, docs/user_guide.md (also under Help > User guide in the window)."
+)
 
 
 class UsageProblem(Exception):
@@ -33,10 +37,13 @@ def build_parser() -> argparse.ArgumentParser:
         prog="rangefold",
         description="Totals of uncertain line items beside the normal shortcut, "
         "and a contingency report.",
+        epilog=GUIDE_POINTER,
     )
     commands = parser.add_subparsers(dest="command")
 
-    report = commands.add_parser("report", help="analyse an estimate and write the report")
+    report = commands.add_parser(
+        "report", help="analyse an estimate and write the report", epilog=GUIDE_POINTER
+    )
     report.add_argument("input", help="estimate: .csv, .tsv, .txt, .xlsx, .xlsm or .rangefold")
     report.add_argument("-o", "--output", help="report file: .xlsx, .pdf or .json")
     report.add_argument("--json", action="store_true", help="print the analysis as JSON")
@@ -47,6 +54,10 @@ def build_parser() -> argparse.ArgumentParser:
     report.add_argument("--tolerance", type=float, help="verdict tolerance, e.g. 0.01 for 1%%")
     report.add_argument("--sampling", choices=("lhs", "random"))
     report.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
+    report.add_argument("--title", help="the estimate's name in the report (default: the file's)")
+    report.add_argument(
+        "--unit", help="currency or unit of the amounts, e.g. EUR or 'working days'"
+    )
     report.add_argument(
         "--accept-repair",
         action="store_true",
@@ -118,7 +129,7 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
     """Print the import summary; list every problem on stderr (exit 2 if there are any)."""
     estimate = read(path)
     summary = estimate.summary
-    print(f"{path.name}: {len(estimate.items)} line item(s)", file=out)
+    print(f"{path.name}: {count(len(estimate.items), 'line item')}", file=out)
     for key, label in (
         ("sheet", "sheet"),
         ("header_row", "header row"),
@@ -156,8 +167,8 @@ def settings_for(args: argparse.Namespace, estimate: Estimate) -> Settings:
     settings = base if isinstance(base, Settings) else Settings(unit=estimate.unit)
     changes = {
         name: getattr(args, name)
-        for name in ("method", "trials", "seed", "tolerance", "sampling")
-        if getattr(args, name) is not None
+        for name in ("method", "trials", "seed", "tolerance", "sampling", "unit")
+        if getattr(args, name, None) is not None
     }
     if args.levels:
         changes["levels"] = parse_levels(args.levels)
@@ -181,6 +192,8 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     estimate = read(path)
     if args.accept_repair:
         estimate.correlation.accept_repair = True
+    if args.title is not None:
+        estimate.title = args.title
     settings = settings_for(args, estimate)
     analysis = analyze(estimate, **settings.analyze_kwargs())
     if args.output:
@@ -202,17 +215,29 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
 def print_summary(analysis, unit: str, out: TextIO) -> None:
     """The levels as a terminal table, for a quick look without writing a file."""
+    from charts import numbers
     from reports.caution import CAUTION
+    from reports.content import NORMAL_SHORTCUT_GLOSS
 
     print(analysis.summary, file=out)
     print(f"method: {analysis.method} ({analysis.method_reason})", file=out)
-    print(f"base estimate: {compact(analysis.base_estimate)} {unit}".rstrip(), file=out)
-    header = f"{'level':>6} {'total':>12} {'contingency':>12} {'normal':>12} {'gap %':>7}  verdict"
+    print(f"base estimate: {numbers.compact(analysis.base_estimate, unit)}", file=out)
+    figures = [v for r in analysis.levels for v in (r.value, r.contingency, r.normal)]
+    decimals = numbers.decimals_for(figures)
+    header = (
+        f"{'level':>6} {'total':>14} {'contingency':>14} {'normal shortcut':>16} "
+        f"{'gap %':>7}  verdict"
+    )
     print(header, file=out)
     for r in analysis.levels:
+        total, contingency, normal = (
+            numbers.money(v, decimals=decimals) for v in (r.value, r.contingency, r.normal)
+        )
+        gap = numbers.percent(r.gap_pct / 100, sign=True)
         print(
-            f"{'P' + format(r.level, 'g'):>6} {r.value:>12,.0f} {r.contingency:>12,.0f} "
-            f"{r.normal:>12,.0f} {r.gap_pct:>6.1f}%  {r.verdict}",
+            f"{numbers.level(r.level):>6} {total:>14} {contingency:>14} {normal:>16} "
+            f"{gap:>7}  {r.verdict}",
             file=out,
         )
+    print(NORMAL_SHORTCUT_GLOSS, file=out)
     print(CAUTION, file=out)
