@@ -8,7 +8,7 @@ from dataclasses import dataclass
 from matplotlib.axes import Axes
 from matplotlib.axis import Axis
 from matplotlib.legend import Legend
-from matplotlib.ticker import FuncFormatter
+from matplotlib.ticker import FuncFormatter, MaxNLocator
 
 from charts.numbers import compact
 
@@ -81,6 +81,8 @@ def legend_above(ax: Axes) -> Legend:
 def money_axis(axis: Axis) -> None:
     """Ticks said the way estimators say sums: 12.3 k, 4.1 M."""
     axis.set_major_formatter(FuncFormatter(lambda x, _pos: compact(x)))
+    # Labels like '1.25 M' are wider than the digits the default locator plans for.
+    axis.set_major_locator(MaxNLocator(nbins=6))
 
 
 def display_text(text: str) -> str:

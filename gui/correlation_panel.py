@@ -445,12 +445,12 @@ class CorrelationPanel(QWidget):
         # Long names keep both ends readable in the list; the chosen name shows from its
         # start, with the whole of it in the tooltip.
         box.view().setTextElideMode(Qt.TextElideMode.ElideMiddle)
-        box.currentTextChanged.connect(lambda text, box=box: _show_start(box, text))
+        box.currentTextChanged.connect(box.setToolTip)
+        box.currentIndexChanged.connect(lambda _index, box=box: _show_start(box))
         return box
 
 
-def _show_start(box: QComboBox, text: str) -> None:
-    box.setToolTip(text)
+def _show_start(box: QComboBox) -> None:
     if not box.lineEdit().hasFocus():
         box.lineEdit().setCursorPosition(0)
 

@@ -14,8 +14,8 @@ from gui.item_text import EDIT_COLUMNS, TABLE_COLUMNS
 NAME, GROUP = TABLE_COLUMNS.index("Item"), TABLE_COLUMNS.index("Group")
 # Names give way down to these widths before the columns scroll; the group gets at most
 # this share of what is left, the item name the rest.
-NAME_MIN_WIDTH, GROUP_MIN_WIDTH, GROUP_SHARE = 150, 64, 0.3
-FIGURE_MAX_WIDTH = 120  # a list of discrete values elides rather than push columns away
+NAME_MIN_WIDTH, GROUP_MIN_WIDTH, GROUP_SHARE = 140, 64, 0.3
+FIGURE_MAX_WIDTH = 100  # a list of discrete values elides rather than push columns away
 ROWS_MEASURED = 60  # rows sampled when sizing columns to content: fast on long estimates
 
 

@@ -173,7 +173,7 @@ class MainWindow(QMainWindow):
         keep_usable_widths(self.splitter, left, results_box)
         self.splitter.setStretchFactor(0, 1)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([540, 620])  # the level table needs the width
+        self.splitter.setSizes([620, 540])  # the typed figures in view; results keep their minimum
 
         self.caution = QLabel(caution_text(), objectName="caution", wordWrap=True)
         self.caution.setStyleSheet("color: #3a4750; font-style: italic; padding: 2px 6px;")
