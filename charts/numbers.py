@@ -11,6 +11,7 @@ import math
 from collections.abc import Iterable
 
 from engine.shortcut.verdict import compact as _compact
+from engine.shortcut.verdict import count as count
 
 MAX_DECIMALS = 2
 
@@ -59,14 +60,6 @@ def probability(p: float) -> str:
     0.0005 -> '0.05%'."""
     value = _rounded(100 * p, 4)
     return f"{value:,.4f}".rstrip("0").rstrip(".") + "%"
-
-
-def count(n: int, noun: str = "", plural: str = "") -> str:
-    """'1,999,000 pairs', '1 pair': the noun agrees with the number."""
-    text = f"{n:,}"
-    if not noun:
-        return text
-    return f"{text} {noun if n == 1 else plural or noun + 's'}"
 
 
 def coefficient(r: float | None, sign: bool = False) -> str:

@@ -143,7 +143,7 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
         print(f"  row {skipped['row']} skipped: {skipped['reason']}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
     if problems:
-        print(f"  {len(problems)} problem(s), listed on stderr", file=out)
+        print(f"  {count(len(problems), 'problem')}, listed on stderr", file=out)
         return _problems(problems, err)
     print("  no problems found", file=out)
     return OK

@@ -41,7 +41,7 @@ from engine.shortcut.normal import (
     normal_percentile,
     sum_of_item_percentiles,
 )
-from engine.shortcut.verdict import reasons_for, summary_sentence
+from engine.shortcut.verdict import count, reasons_for, summary_sentence
 from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
@@ -394,7 +394,7 @@ def base_estimate(items: Sequence[LineItem]) -> tuple[float, str]:
     basis = "sum of the base items' point values: " + (", ".join(parts) if parts else "none")
     events = sum(1 for i in items if i.is_risk_event)
     if events:
-        basis += f"; {events} risk event(s) excluded (contingency carries them)"
+        basis += f"; {count(events, 'risk event')} excluded (contingency carries them)"
     return math.fsum(v for v, _ in values), basis
 
 

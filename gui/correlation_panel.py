@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts.numbers import count
 from engine.dependence.correlation import repair_preview, spec_problems
 from gui import correlation_commands as commands
 from gui.correlation_matrix import SCALE, MatrixModel
@@ -250,7 +251,7 @@ class CorrelationPanel(QWidget):
         rows = sorted({i.row() for i in self.pairs.selectedIndexes()})
         if rows:
             self._change(
-                lambda: commands.remove_pairs(self.spec, rows), f"remove {len(rows)} pair(s)"
+                lambda: commands.remove_pairs(self.spec, rows), f"remove {count(len(rows), 'pair')}"
             )
 
     def accept_repair(self) -> None:

@@ -410,7 +410,9 @@ class MainWindow(QMainWindow):
         if estimate is None:
             return []
         rows = self.editor.insert_items(
-            estimate.items, None, f"import {len(estimate.items)} item(s) from {path.name}"
+            estimate.items,
+            None,
+            f"import {numbers.count(len(estimate.items), 'item')} from {path.name}",
         )
         self.table.select_rows(rows)
         return rows
