@@ -12,7 +12,8 @@ from charts import numbers
 from engine import Analysis, Estimate, LevelRow, LineItem, build_distribution
 
 # Column kinds: money (in the estimate's unit), percent (a fraction, shown as %),
-# level (a confidence level in percent, shown as P80), coefficient (a correlation),
+# level (a confidence level in percent, shown as P80), probability (of occurrence, as few
+# digits as it has: 100%, 12.5%), coefficient (a correlation),
 # statistic (unitless, two decimals), number, text.
 Kind = str
 
@@ -221,7 +222,7 @@ def item_table(estimate: Estimate) -> Table:
         Column("High", "money", lambda i: i.high),
         Column("Low %", "number", lambda i: i.low_pct),
         Column("High %", "number", lambda i: i.high_pct),
-        Column("Probability", "percent", lambda i: i.probability),
+        Column("Probability", "probability", lambda i: i.probability),
         Column("Mean", "money", lambda i: moment(i, "mean")),
         Column("SD", "money", lambda i: moment(i, "sd")),
     ]

@@ -30,7 +30,7 @@ ITEMS_PER_PAGE = 40
 HEADER_FILL = "#dce7ec"
 FOOTER_SIZE = 6.5
 FOOTER_COLOUR = "#4b5563"
-CHART_HEIGHT = 3.4  # inches: the decision page's S-curve
+CHART_HEIGHT = 4.0  # inches at most: the decision page's S-curve
 
 
 def _fit(text: str, inches: float, size: float) -> str:
@@ -51,6 +51,8 @@ def cell_text(value: Any, kind: Kind, decimals: int = 0) -> str:
         return numbers.percent(value)
     if kind == "level":
         return numbers.level(value)
+    if kind == "probability":
+        return numbers.probability(value)
     if kind == "coefficient":
         return numbers.coefficient(value)
     if kind == "statistic":

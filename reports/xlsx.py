@@ -22,6 +22,7 @@ FORMATS: dict[Kind, str] = {
     "money": "#,##0",
     "percent": "0.0%",
     "level": '"P"0',
+    "probability": "0.0%",
     "coefficient": "0.00",
     "statistic": "0.00",
     "number": "General",
