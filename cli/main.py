@@ -216,8 +216,7 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 def print_summary(analysis, unit: str, out: TextIO) -> None:
     """The levels as a terminal table, for a quick look without writing a file."""
     from charts import numbers
-    from reports.caution import CAUTION
-    from reports.content import NORMAL_SHORTCUT_GLOSS
+    from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 
     print(analysis.summary, file=out)
     print(f"method: {analysis.method} ({analysis.method_reason})", file=out)

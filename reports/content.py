@@ -50,14 +50,6 @@ def make_table(columns: list[Column], records: list[Any]) -> Table:
     return Table(columns, [[c.value(r) for c in columns] for r in records])
 
 
-# Said once in every report, where the term first matters.
-NORMAL_SHORTCUT_GLOSS = (
-    "The normal shortcut is the usual quick method: add the items' means and variances and "
-    "read the total off a normal curve. Rangefold computes the total itself and shows where "
-    "the shortcut is close enough and where it is not."
-)
-
-
 def money_text(x: float, unit: str = "") -> str:
     """Compact money for sentences: '310 k EUR', '8.39 working days'."""
     return numbers.compact(x, unit)

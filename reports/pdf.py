@@ -21,7 +21,7 @@ from charts.style import TEXT, display_text
 from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
 from reports import content
-from reports.caution import CAUTION
+from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
@@ -310,7 +310,7 @@ def _decision_pages(
     page.gap()
     page.text(analysis.summary, size=9.5, weight="bold")
     page.gap(0.06)
-    page.text(content.NORMAL_SHORTCUT_GLOSS, size=8)
+    page.text(NORMAL_SHORTCUT_GLOSS, size=8)
     page.gap()
     main, _ = _split_levels(content.level_table(analysis))
     page.table(main, size=7.2, widths=[0.6, 1.2, 1.1, 0.9, 1.2, 1.1, 0.8, 1.0])

@@ -16,6 +16,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from engine import Analysis, Estimate
 from fileio.cells import FORMULA_STARTS
 from reports import content
+from reports.caution import NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
 
 FORMATS: dict[Kind, str] = {
@@ -94,7 +95,7 @@ def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) 
     put(sheet, 2, 1, about["title"]).font = Font(bold=True, size=12)
     put(sheet, 3, 1, about["caution"]).font = Font(italic=True)
     amounts = f"Amounts in {about['unit']}. " if about["unit"] else ""
-    put(sheet, 4, 1, amounts + content.NORMAL_SHORTCUT_GLOSS)
+    put(sheet, 4, 1, amounts + NORMAL_SHORTCUT_GLOSS)
     row = put_table(sheet, 5, content.level_table(analysis)) + 1
     put(sheet, row, 1, "Verdict").font = BOLD
     for level in analysis.levels:

@@ -13,7 +13,7 @@ from report_fixtures import correlated_normals, mixed_estimate, uniforms
 
 from engine import Estimate, LineItem, Settings, analyze
 from reports import content, write_report
-from reports.caution import CAUTION
+from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 from reports.pdf import page_text, report_pages
 from reports.provenance import provenance
 from reports.xlsx import write_xlsx
@@ -62,8 +62,8 @@ def test_every_page_carries_the_caution_in_its_footer(mixed):
 
 def test_normal_shortcut_is_explained_once(mixed):
     _, _, pages = mixed
-    assert sum(text.count(content.NORMAL_SHORTCUT_GLOSS) for text in pages) == 1
-    assert "add the items' means and variances" in content.NORMAL_SHORTCUT_GLOSS
+    assert sum(text.count(NORMAL_SHORTCUT_GLOSS) for text in pages) == 1
+    assert "add the items' means and variances" in NORMAL_SHORTCUT_GLOSS
 
 
 def test_plain_meaning_first_then_the_statistics_name(mixed):
@@ -127,7 +127,7 @@ def test_xlsx_summary_has_the_caution_under_the_title(mixed):
     write_xlsx(stream, estimate, analysis, provenance(estimate, Settings(unit="EUR")))
     summary = load_workbook(io.BytesIO(stream.getvalue()))["Summary"]
     assert summary["A3"].value == CAUTION
-    assert content.NORMAL_SHORTCUT_GLOSS in summary["A4"].value
+    assert NORMAL_SHORTCUT_GLOSS in summary["A4"].value
     assert summary["A4"].value.startswith("Amounts in EUR.")
 
 
