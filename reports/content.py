@@ -133,11 +133,12 @@ def facts(analysis: Analysis, about: dict[str, Any]) -> list[tuple[str, Any, Kin
             ("Standard errors", "per level in the table (batch means over replicates)", "text"),
         ]
     else:
+        # Compact, not in the table's decimals: the error is far smaller than the total.
         rows.append(
             (
                 "Grid error (largest percentile change on halving the grid)",
-                analysis.grid_error,
-                "money",
+                numbers.compact(analysis.grid_error, about["unit"]),
+                "text",
             )
         )
     rows += [

@@ -29,6 +29,7 @@ FORMATS: dict[Kind, str] = {
     "number": "General",
 }
 HEADER_FILL = PatternFill("solid", fgColor="DCE7EC")
+FACT_VALUE_COLUMN = 5  # past the longest label, which runs over the empty cells beside it
 BOLD = Font(bold=True)
 
 
@@ -110,7 +111,7 @@ def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) 
     row += 2
     for label, value, kind in content.facts(analysis, about):
         put(sheet, row, 1, label)
-        put(sheet, row, 3, value, kind)
+        put(sheet, row, FACT_VALUE_COLUMN, value, kind)
         row += 1
     sheet.column_dimensions["A"].width = 16
     sheet.column_dimensions["B"].width = 16
