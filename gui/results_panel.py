@@ -24,6 +24,7 @@ from engine import Analysis
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
 from gui.repair_notice import RepairNotice
+from reports.content import reasons_heading
 
 LINKS_SHOWN = 25
 LINKS_TAB = "Rank correlation with the total"
@@ -201,7 +202,8 @@ class ResultsPanel(QWidget):
         self.table.show()
         reasons = "".join(f"<li>{_escape(r)}</li>" for r in analysis.reasons)
         self.reasons.setText(
-            f"<b>Why the shortcut misses</b><ul style='margin-top:0; margin-left:-20px'>{reasons}</ul>"
+            f"<b>{reasons_heading(analysis)}</b>"
+            f"<ul style='margin-top:0; margin-left:-20px'>{reasons}</ul>"
             if reasons
             else ""
         )

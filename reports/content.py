@@ -66,6 +66,14 @@ def verdict_sentence(row: LevelRow, tolerance: float, unit: str = "") -> str:
     return f"the normal shortcut {row.verdict} P{row.level:g} by {size}"
 
 
+def reasons_heading(analysis: Analysis) -> str:
+    """The reasons explain a miss; where the shortcut holds everywhere they are still worth
+    knowing, but not as the cause of a failure."""
+    if all(r.holds for r in analysis.levels):
+        return "What shapes the total (the shortcut holds all the same)"
+    return "Why the shortcut misses"
+
+
 def _fraction(pct: float | None) -> float | None:
     return None if pct is None else pct / 100
 

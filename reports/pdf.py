@@ -321,7 +321,7 @@ def _decision_pages(
             "- " + content.verdict_sentence(level, analysis.tolerance, unit) + ".", indent=0.1
         )
     page.gap()
-    page.text("Why", size=10, weight="bold")
+    page.text(content.reasons_heading(analysis), size=10, weight="bold")
     for reason in analysis.reasons or ["no skew driver, dominant item or risk event stands out"]:
         page.text("- " + reason + ".", indent=0.1)
     page.gap()

@@ -104,7 +104,7 @@ def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) 
         text = content.verdict_sentence(level, analysis.tolerance, about["unit"])
         put(sheet, row, 1, text[0].upper() + text[1:] + ".")
     row += 2
-    put(sheet, row, 1, "Why").font = BOLD
+    put(sheet, row, 1, content.reasons_heading(analysis)).font = BOLD
     for reason in analysis.reasons or ["no skew driver, dominant item or risk event stands out"]:
         row += 1
         put(sheet, row, 1, reason[0].upper() + reason[1:] + ".")

@@ -42,7 +42,7 @@ def test_page_one_is_the_decision_with_the_caution(mixed):
     body = lines[2:]
     assert body[0] == "Contingency report"
     assert " ".join(body[2:5]).startswith(CAUTION[:60])
-    for heading in ("Contingency", "Normal shortcut", "Verdict per level", "Why"):
+    for heading in ("Contingency", "Normal shortcut", "Verdict per level", "Why the shortcut"):
         assert heading in first
     for row in analysis.levels:
         assert f"P{row.level:g}" in first
@@ -135,3 +135,13 @@ def test_report_written_to_disk_has_the_same_first_page(tmp_path, mixed):
     estimate, analysis, _ = mixed
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(unit="EUR"))
     assert path.read_bytes().startswith(b"%PDF-")
+
+
+def test_reasons_are_not_called_a_miss_where_the_shortcut_holds(mixed):
+    _, failing, _ = mixed
+    assert content.reasons_heading(failing) == "Why the shortcut misses"
+    # Forty uniform items: the total is close to normal, so every level holds at 1%
+    # (Irwin–Hall n = 40 against its normal approximation, Johnson, Kotz & Balakrishnan vol. 2).
+    holding = analyze(uniforms(40), method="exact")
+    assert all(r.holds for r in holding.levels)
+    assert content.reasons_heading(holding).startswith("What shapes the total")

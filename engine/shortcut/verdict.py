@@ -60,7 +60,10 @@ def reasons_for(
         events = count(diag.risk_event_count, "risk event")
         text = f"{events} {'carries' if diag.risk_event_count == 1 else 'carry'} {share:.0f}% of the variance"
         if rare:
-            text += f"; {len(rare)} of them rare (below {RARE_EVENT:.0%} likely), which lengthens the right tail"
+            which = "it is" if diag.risk_event_count == 1 else f"{len(rare)} of them"
+            text += (
+                f"; {which} rare (below {RARE_EVENT:.0%} likely), which lengthens the right tail"
+            )
         if share >= 20 or rare:
             reasons.append(text)
     if abs(diag.skewness) >= NOTABLE_SKEW:
