@@ -8,19 +8,17 @@ import json
 import pytest
 
 from cli.main import build_parser, main
+from engine import analyze
+from fileio.demo import SAMPLE_DIR
+from fileio.readers import read_estimate
 from gui.help_menu import USER_GUIDE
 from reports.caution import CAUTION
 
-CSV = "Item,Distribution,Low,Most likely,High\n" + "".join(
-    f"Uniform {k},uniform,0,,1000\n" for k in range(3)
-)
-
 
 @pytest.fixture
-def csv_file(tmp_path):
-    path = tmp_path / "three_uniforms.csv"
-    path.write_text(CSV, encoding="utf-8")
-    return path
+def csv_file():
+    """The demo schedule as a CSV: like any CSV it carries neither a title nor a unit."""
+    return SAMPLE_DIR / "pump_station_schedule_skewed.csv"
 
 
 def test_title_and_unit_reach_the_report(csv_file, tmp_path, capsys):
@@ -36,20 +34,22 @@ def test_title_and_unit_reach_the_report(csv_file, tmp_path, capsys):
 def test_without_title_the_file_name_is_used(csv_file, tmp_path):
     out = tmp_path / "r.json"
     assert main(["report", str(csv_file), "-o", str(out), "--method", "exact"]) == 0
-    assert "three_uniforms" in out.read_text("utf-8")
+    assert "pump_station_schedule_skewed" in out.read_text("utf-8")
 
 
 def test_terminal_summary_uses_the_unit_and_explains_the_shortcut(csv_file, capsys):
-    assert main(["report", str(csv_file), "--method", "exact", "--unit", "EUR"]) == 0
+    assert main(["report", str(csv_file), "--method", "exact", "--unit", "working days"]) == 0
     printed = capsys.readouterr().out
-    # Three uniform(0, 1000) items: a uniform has no mode, so its mean 500 is its point value.
-    assert "base estimate: 1.5 k EUR" in printed
+    base = analyze(read_estimate(csv_file), method="exact").base_estimate
+    assert f"base estimate: {base:.3g} working days" in printed
     assert "normal shortcut" in printed.splitlines()[3]
     assert "add the items' means and variances" in printed
     assert CAUTION in printed
     # Thousands separators and one number of decimals in the level table.
-    rows = [line for line in printed.splitlines() if line.strip().startswith("P")]
-    assert rows and all("," in row.split()[1] for row in rows)
+    # One number of decimals for every figure of the level table (durations near 300 days:
+    # one decimal, charts.numbers.decimals_for).
+    rows = [line.split() for line in printed.splitlines() if line.strip().startswith("P")]
+    assert rows and all(len(figure.split(".")[1]) == 1 for row in rows for figure in row[1:4])
 
 
 def test_help_points_to_the_user_guide(capsys):
