@@ -46,7 +46,11 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
     )
     ax.set_yticks(y, [_short(d.name) for d in drivers], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
-    style_axes(ax, f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)")
+    style_axes(
+        ax,
+        f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)",
+        title_side="right",
+    )
     ax.grid(False, axis="y")
     ax.set_xlabel("Share (%)", fontsize=FONT_SIZE)
     legend_above(ax)

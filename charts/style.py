@@ -35,15 +35,16 @@ TEXT = "#1f2933"
 FONT_SIZE = 8.5
 
 
-def style_axes(ax: Axes, title: str = "") -> None:
-    """Quiet frame: light grid behind the data, no top or right spine."""
+def style_axes(ax: Axes, title: str = "", title_side: str = "left") -> None:
+    """Quiet frame: light grid behind the data, no top or right spine. A chart whose tick
+    labels are long names puts its title on the right, where it has the width it needs."""
     ax.set_axisbelow(True)
     ax.grid(True, color="#d9dde3", linewidth=0.6)
     for side in ("top", "right"):
         ax.spines[side].set_visible(False)
     ax.tick_params(labelsize=FONT_SIZE, colors=TEXT)
     if title:
-        ax.set_title(title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc="left")
+        ax.set_title(title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc=title_side)
 
 
 def legend_above(ax: Axes) -> Legend:
@@ -70,11 +71,11 @@ def legend_above(ax: Axes) -> Legend:
         columnspacing=1.2,
         handlelength=1.8,
     )
-    title = ax.get_title(loc="left")
-    if title:
-        ax.set_title(
-            title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc="left", pad=6 + rows * FONT_SIZE * 1.5
-        )
+    for side in ("left", "right"):
+        title = ax.get_title(loc=side)
+        if title:
+            lift = 6 + rows * FONT_SIZE * 1.5
+            ax.set_title(title, fontsize=FONT_SIZE + 1.5, color=TEXT, loc=side, pad=lift)
     return legend
 
 

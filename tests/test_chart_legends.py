@@ -32,9 +32,12 @@ def test_legend_lies_outside_the_plot_and_below_the_title(analysis, draw, size):
     renderer = figure.canvas.get_renderer()
     legend = ax.get_legend().get_window_extent(renderer)
     plot = ax.get_window_extent(renderer)
-    title = ax.title if ax.get_title() else ax._left_title
+    titles = [t for t in (ax._left_title, ax.title, ax._right_title) if t.get_text()]
+    assert len(titles) == 1
+    title = titles[0].get_window_extent(renderer)
     assert legend.y0 >= plot.y1 - 0.5, "the legend reaches into the plotting area"
-    assert not legend.overlaps(title.get_window_extent(renderer))
+    assert not legend.overlaps(title)
+    assert figure.bbox.x0 - 0.5 <= title.x0 and title.x1 <= figure.bbox.x1 + 0.5, "title cut"
     # Every entry is shown, none cut off the figure.
     assert figure.bbox.x0 - 0.5 <= legend.x0 and legend.x1 <= figure.bbox.x1 + 0.5
     labels = [t.get_text() for t in ax.get_legend().get_texts()]
