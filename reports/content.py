@@ -50,14 +50,16 @@ def make_table(columns: list[Column], records: list[Any]) -> Table:
     return Table(columns, [[c.value(r) for c in columns] for r in records])
 
 
-def money_text(x: float, unit: str = "") -> str:
-    """Compact money for sentences: '310 k EUR', '8.39 working days'."""
-    return numbers.compact(x, unit)
+def verdict_sentences(analysis: Analysis, unit: str = "") -> list[str]:
+    """One sentence a level, its sums in the level table's decimals."""
+    decimals = numbers.decimals_for(r.value for r in analysis.levels)
+    return [verdict_sentence(r, analysis.tolerance, unit, decimals) for r in analysis.levels]
 
 
-def verdict_sentence(row: LevelRow, tolerance: float, unit: str = "") -> str:
-    """E.g. 'the normal shortcut understates P90 by 4.1%, 310 k EUR'."""
-    size = f"{numbers.percent(abs(row.gap_pct) / 100)}, {money_text(abs(row.gap), unit)}"
+def verdict_sentence(row: LevelRow, tolerance: float, unit: str = "", decimals: int = 0) -> str:
+    """E.g. 'the normal shortcut understates P90 by 4.1%, 310,442 EUR'."""
+    gap = numbers.money(abs(row.gap), unit, decimals)
+    size = f"{numbers.percent(abs(row.gap_pct) / 100)}, {gap}"
     if row.holds:
         return (
             f"the normal shortcut holds at P{row.level:g}: off by {size}, "

@@ -316,10 +316,8 @@ def _decision_pages(
     page.table(main, size=7.2, widths=[0.6, 1.2, 1.1, 0.9, 1.2, 1.1, 0.8, 1.0])
     page.gap(0.15)
     page.text("Verdict per level", size=10, weight="bold")
-    for level in analysis.levels:
-        page.text(
-            "- " + content.verdict_sentence(level, analysis.tolerance, unit) + ".", indent=0.1
-        )
+    for sentence in content.verdict_sentences(analysis, unit):
+        page.text("- " + sentence + ".", indent=0.1)
     page.gap()
     page.text(content.reasons_heading(analysis), size=10, weight="bold")
     for reason in analysis.reasons or ["no skew driver, dominant item or risk event stands out"]:

@@ -99,9 +99,8 @@ def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) 
     put(sheet, 4, 1, amounts + NORMAL_SHORTCUT_GLOSS)
     row = put_table(sheet, 5, content.level_table(analysis)) + 1
     put(sheet, row, 1, "Verdict").font = BOLD
-    for level in analysis.levels:
+    for text in content.verdict_sentences(analysis, about["unit"]):
         row += 1
-        text = content.verdict_sentence(level, analysis.tolerance, about["unit"])
         put(sheet, row, 1, text[0].upper() + text[1:] + ".")
     row += 2
     put(sheet, row, 1, content.reasons_heading(analysis)).font = BOLD

@@ -145,3 +145,12 @@ def test_reasons_are_not_called_a_miss_where_the_shortcut_holds(mixed):
     holding = analyze(uniforms(40), method="exact")
     assert all(r.holds for r in holding.levels)
     assert content.reasons_heading(holding).startswith("What shapes the total")
+
+
+def test_verdict_sentences_write_sums_with_the_tables_decimals(mixed):
+    _, analysis, _ = mixed
+    sentences = content.verdict_sentences(analysis, "EUR")
+    assert len(sentences) == len(analysis.levels)
+    # Totals near 500: one decimal for every sum, as in the level table.
+    sums = [re.search(r", ([\d,]+\.?\d*) EUR", s).group(1) for s in sentences]
+    assert all(len(text.split(".")[1]) == 1 for text in sums), sums
