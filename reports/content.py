@@ -200,7 +200,12 @@ def _cornish_fisher_note(analysis: Analysis) -> str:
 
 def discrete_text(values: tuple[tuple[float, float], ...]) -> str:
     """Discrete values as the importer reads them: '100 @ 20%; 150 @ 50%; 300 @ 30%'."""
-    return "; ".join(f"{v:,g} @ {numbers.probability(w)}" for v, w in values)
+    return "; ".join(f"{v:g} @ {100 * w:g}%" for v, w in values)
+
+
+def discrete_shown(values: tuple[tuple[float, float], ...]) -> str:
+    """The same values for reading, with the digits typed: '480,000 @ 50%; 1,250,000 @ 35%'."""
+    return "; ".join(f"{v:,.15g} @ {numbers.probability(w)}" for v, w in values)
 
 
 def family_name(family: str) -> str:
@@ -220,7 +225,7 @@ def item_table(estimate: Estimate) -> Table:
         Column(
             "Most likely",
             "money",
-            lambda i: discrete_text(i.values) if i.family == "discrete" else i.most_likely,
+            lambda i: discrete_shown(i.values) if i.family == "discrete" else i.most_likely,
         ),
         Column("High", "money", lambda i: i.high),
         Column("Low %", "number", lambda i: i.low_pct),

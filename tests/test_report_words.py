@@ -154,3 +154,8 @@ def test_verdict_sentences_write_sums_with_the_tables_decimals(mixed):
     # Totals near 500: one decimal for every sum, as in the level table.
     sums = [re.search(r", ([\d,]+\.?\d*) EUR", s).group(1) for s in sentences]
     assert all(len(text.split(".")[1]) == 1 for text in sums), sums
+
+
+def test_discrete_values_read_with_separators_and_the_digits_typed():
+    shown = content.discrete_shown(((1_234_567.0, 0.5), (2.5, 0.125), (100.0, 0.375)))
+    assert shown == "1,234,567 @ 50%; 2.5 @ 12.5%; 100 @ 37.5%"
