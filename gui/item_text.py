@@ -8,7 +8,7 @@ parsers; display text is for reading.
 from __future__ import annotations
 
 from engine import LineItem
-from reports.content import family_name
+from reports.content import discrete_shown, family_name
 
 # Columns of the item table, in order; the first nine are typed by the user.
 EDIT_COLUMNS = (
@@ -82,7 +82,7 @@ def item_cells(item: LineItem) -> dict[str, str]:
 
 
 def display_cells(item: LineItem) -> dict[str, str]:
-    """Cells as shown: numbers with thousands separators, discrete values as typed,
+    """Cells as shown: numbers and discrete values with thousands separators,
     families as the trade writes them (PERT)."""
     shown = item_cells(item)
     if "Distribution" not in item.raw:
@@ -93,6 +93,8 @@ def display_cells(item: LineItem) -> dict[str, str]:
         ("Most likely", item.most_likely),
     ):
         discrete_ml = column == "Most likely" and item.family == "discrete" and item.values
-        if value is not None and column not in item.raw and not discrete_ml:
+        if discrete_ml and column not in item.raw:
+            shown[column] = discrete_shown(item.values)
+        elif value is not None and column not in item.raw and not discrete_ml:
             shown[column] = display_number(value)
     return shown

@@ -134,6 +134,11 @@ def test_item_table_writes_pert_and_elides_long_names_in_the_middle(make_window,
     assert model.index(0, family).data() == "PERT"
     assert model.index(0, family).data(Qt.ItemDataRole.EditRole) == "pert"  # as typed
     assert model.index(0, 0).data(Qt.ItemDataRole.ToolTipRole) == LONG_NAME
+    most_likely = TABLE_COLUMNS.index("Most likely")
+    assert model.index(5, most_likely).data() == "50,000 @ 50%; 120,000 @ 50%"
+    assert model.index(5, most_likely).data(Qt.ItemDataRole.EditRole) == (
+        "50000 @ 50%; 120000 @ 50%"  # the text an edit starts from reads back exactly
+    )
     # The three figures a user types stay in view beside the names at the first size.
     for name in ("Low", "Most likely", "High"):
         column = TABLE_COLUMNS.index(name)
