@@ -197,7 +197,7 @@ class CorrelationPanel(QWidget):
         self.matrix.horizontalHeader().setMinimumSectionSize(30)
         self.matrix.verticalHeader().setDefaultSectionSize(24)
         self.matrix_caption = QLabel(wordWrap=True, objectName="matrix-caption")
-        legend = QLabel(_legend_html(), objectName="matrix-legend")
+        legend = QLabel(_legend_html(), objectName="matrix-legend", wordWrap=True)
         matrix_box = QGroupBox("The resulting matrix (as stated, before any repair)")
         matrix_layout = QVBoxLayout(matrix_box)
         matrix_layout.addWidget(self.matrix_caption)

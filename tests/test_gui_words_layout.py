@@ -115,6 +115,9 @@ def test_settings_and_correlation_editor_words(make_window, qtbot):
     help_texts = [w.text() for w in dialog.findChildren(QLabel)]
     assert not any("default for that group" in t for t in help_texts)
     assert any("take the coefficient under 'Every other pair'" in t for t in help_texts)
+    # The dialog fits a 1280x800 screen (its colour legend wraps instead of widening it).
+    hint = dialog.minimumSizeHint()
+    assert hint.width() <= 1280 - 40 and hint.height() <= 800 - 60
     buttons = dialog.findChild(QDialogButtonBox, "close")
     assert buttons.button(QDialogButtonBox.StandardButton.Close) is not None
     picker = dialog.panel.pick_a
