@@ -152,6 +152,8 @@ def test_item_table_writes_pert_and_elides_long_names_in_the_middle(make_window,
 @pytest.mark.parametrize("size", [(1280, 800), (1600, 1000)])
 def test_panes_stay_usable_with_the_left_out_banner(make_window, qtbot, size):
     window = opened(make_window, qtbot, size, bad_rows=12)
+    assert window.minimumSizeHint().width() <= size[0]
+    assert (window.width(), window.height()) == size
     banner = window.left_out
     assert banner.isVisible() and banner.wordWrap()
     assert "12 rows" in banner.text()
