@@ -138,7 +138,11 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
         ("drafts", "drafts (rows with problems, kept)"),
     ):
         if summary.get(key) is not None:
-            print(f"  {label}: {summary[key]}", file=out)
+            value = summary[key]
+            shown = (
+                count(value) if isinstance(value, int) and not isinstance(value, bool) else value
+            )
+            print(f"  {label}: {shown}", file=out)
     for skipped in summary.get("rows_skipped", []):
         print(f"  row {skipped['row']} skipped: {skipped['reason']}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
