@@ -11,7 +11,7 @@ from charts.style import (
     HISTOGRAM_FILL,
     SKEW,
     TOTAL,
-    display_text,
+    elide_middle,
     legend_above,
     style_axes,
 )
@@ -44,7 +44,7 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
         label="Share of skewness",
         gid="skew",
     )
-    ax.set_yticks(y, [_short(d.name) for d in drivers], fontsize=FONT_SIZE)
+    ax.set_yticks(y, [elide_middle(d.name, LABEL_CHARS) for d in drivers], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
     style_axes(
         ax,
@@ -54,8 +54,3 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
     ax.grid(False, axis="y")
     ax.set_xlabel("Share (%)", fontsize=FONT_SIZE)
     legend_above(ax)
-
-
-def _short(name: str) -> str:
-    name = display_text(name)
-    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"

@@ -92,6 +92,24 @@ def display_text(text: str) -> str:
     return " ".join(text.split())
 
 
+def elide_middle(text: str, limit: int) -> str:
+    """Long names keep both ends ('Risk: column sh…, replace shell'): the end often says
+    which of several similar items it is."""
+    text = display_text(text)
+    if len(text) <= limit:
+        return text
+    head = limit // 2
+    return text[:head] + "…" + text[len(text) - (limit - 1 - head) :]
+
+
+def title_room(ax: Axes) -> int:
+    """Characters a title can hold at the title's size: the figure's width less the room
+    the axis labels take on the left."""
+    figure = ax.get_figure()
+    inches = 0.85 * figure.get_figwidth() if figure else 4.0
+    return max(12, int(inches * 72 / ((FONT_SIZE + 1.5) * 0.6)))
+
+
 def axis_label(name: str, unit: str) -> str:
     return f"{name} ({unit})" if unit else name
 
