@@ -217,8 +217,8 @@ def analyze(
         why = (
             "simulation was chosen in the settings"
             if method == "simulation"
-            else f"{linked:,} pair{'s' if linked != 1 else ''} of items "
-            f"{'are' if linked != 1 else 'is'} correlated, so the total is simulated"
+            else f"{count(linked, 'pair')} of items {'is' if linked == 1 else 'are'} correlated,"
+            " so the total is simulated"
             " (exact convolution needs independent items)"
         ) + "; the correlations are induced by Iman–Conover"
         if aims.repaired:

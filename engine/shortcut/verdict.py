@@ -58,7 +58,8 @@ def reasons_for(
     if diag.risk_event_count:
         share = 100 * diag.risk_event_variance_share
         events = count(diag.risk_event_count, "risk event")
-        text = f"{events} {'carries' if diag.risk_event_count == 1 else 'carry'} {share:.0f}% of the variance"
+        carry = "carries" if diag.risk_event_count == 1 else "carry"
+        text = f"{events} {carry} {share:.0f}% of the variance"
         if rare:
             which = "it is" if diag.risk_event_count == 1 else f"{len(rare)} of them"
             text += (
