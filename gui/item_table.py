@@ -12,6 +12,7 @@ from gui.item_editor import ItemEditor
 from gui.item_text import EDIT_COLUMNS, TABLE_COLUMNS
 
 NAME, GROUP = TABLE_COLUMNS.index("Item"), TABLE_COLUMNS.index("Group")
+LAST_TYPED = TABLE_COLUMNS.index("High")  # the names and figures up to here stay in view
 # Names give way down to these widths before the columns scroll; the group gets at most
 # this share of what is left, the item name the rest.
 NAME_MIN_WIDTH, GROUP_MIN_WIDTH, GROUP_SHARE = 140, 64, 0.3
@@ -55,7 +56,8 @@ class ItemTableView(QTableView):
     # --- columns ------------------------------------------------------------------------
     def fit_columns(self) -> None:
         """Every column as wide as its content; when that overflows the pane, the Item and
-        Group columns give up the difference (down to a minimum), since names elide well."""
+        Group columns give up the difference (down to a minimum, names elide well) so that
+        the typed figures up to High stay in view."""
         self.resizeColumnsToContents()
         for column in range(self.model().columnCount()):
             if column not in (NAME, GROUP):
@@ -65,10 +67,13 @@ class ItemTableView(QTableView):
 
     def _share_width(self) -> None:
         name, group = getattr(self, "_natural", (self.columnWidth(NAME), self.columnWidth(GROUP)))
-        fixed = sum(
-            self.columnWidth(c) for c in range(self.model().columnCount()) if c not in (NAME, GROUP)
-        )
-        room = self.viewport().width() - fixed
+        columns = self.model().columnCount()
+        everything = sum(self.columnWidth(c) for c in range(columns) if c not in (NAME, GROUP))
+        typed = sum(self.columnWidth(c) for c in range(LAST_TYPED + 1) if c not in (NAME, GROUP))
+        # Everything in view if it fits; else the names share what the typed figures leave,
+        # and the later columns (percentages, mean, SD) scroll.
+        fits = self.viewport().width() - everything >= name + group
+        room = self.viewport().width() - (everything if fits else typed)
         if name + group > room:
             group = max(GROUP_MIN_WIDTH, min(group, int(room * GROUP_SHARE)))
             name = max(NAME_MIN_WIDTH, room - group)
