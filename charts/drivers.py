@@ -6,7 +6,15 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.axes import Axes
 
-from charts.style import FONT_SIZE, HISTOGRAM_FILL, SKEW, TOTAL, display_text, style_axes
+from charts.style import (
+    FONT_SIZE,
+    HISTOGRAM_FILL,
+    SKEW,
+    TOTAL,
+    elide_middle,
+    legend_above,
+    style_axes,
+)
 from engine import Analysis
 
 LABEL_CHARS = 38
@@ -33,17 +41,16 @@ def draw_drivers(ax: Axes, analysis: Analysis, top: int = 12) -> None:
         edgecolor=SKEW.color,
         hatch=SKEW.hatch,
         lw=0.8,
-        label="Share of skew (3rd cumulant)",
+        label="Share of skewness",
         gid="skew",
     )
-    ax.set_yticks(y, [_short(d.name) for d in drivers], fontsize=FONT_SIZE)
+    ax.set_yticks(y, [elide_middle(d.name, LABEL_CHARS) for d in drivers], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
-    style_axes(ax, f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)")
+    style_axes(
+        ax,
+        f"Drivers of the total (top {len(drivers)} of {len(analysis.drivers)} items)",
+        title_side="right",
+    )
     ax.grid(False, axis="y")
     ax.set_xlabel("Share (%)", fontsize=FONT_SIZE)
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
-
-
-def _short(name: str) -> str:
-    name = display_text(name)
-    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"
+    legend_above(ax)

@@ -13,6 +13,7 @@ from charts.style import (
     REFERENCE,
     TOTAL,
     axis_label,
+    legend_above,
     level_label,
     money_axis,
     style_axes,
@@ -63,4 +64,4 @@ def draw_gap_curve(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     ax.set_xlim(0, 100)
     ax.set_xlabel("Percentile of the total", fontsize=FONT_SIZE)
     ax.set_ylabel(axis_label("Normal minus total", unit), fontsize=FONT_SIZE)
-    ax.legend(fontsize=FONT_SIZE, loc="best", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)

@@ -5,16 +5,18 @@ from __future__ import annotations
 import numpy as np
 from matplotlib.axes import Axes
 
+from charts.numbers import probability
 from charts.style import (
     FAIL,
     FONT_SIZE,
     REFERENCE,
     TOTAL,
     axis_label,
-    display_text,
+    elide_middle,
     level_label,
     money_axis,
     style_axes,
+    title_room,
 )
 from engine import LineItem
 from engine.families.distributions import Distribution
@@ -58,10 +60,8 @@ def draw_item_preview(ax: Axes, item: LineItem, dist: Distribution, unit: str = 
             continue
         ax.axvline(value, color=REFERENCE.color, ls=style, lw=1.1, gid=f"mark-{name}")
         level_label(ax, value, name)
-    title = display_text(item.name) + (
-        f" (risk event, {100 * item.probability:g}% likely)" if item.is_risk_event else ""
-    )
-    style_axes(ax, title)
+    said = f" (risk event, {probability(item.probability)} likely)" if item.is_risk_event else ""
+    style_axes(ax, elide_middle(item.name, title_room(ax) - len(said)) + said)
     money_axis(ax.xaxis)
     ax.set_xlabel(axis_label("Value", unit), fontsize=FONT_SIZE)
     ax.set_ylim(bottom=0)

@@ -15,6 +15,7 @@ from charts.style import (
     TEXT,
     TOTAL,
     axis_label,
+    legend_above,
     level_label,
     money_axis,
     style_axes,
@@ -24,6 +25,8 @@ from engine.exact.totals import GridTotal, SampleTotal
 
 # Central range drawn: past these the curves are flat and only squeeze the levels together.
 SHOWN = (0.0005, 0.9995)
+# The window's tab and the chart say the same words.
+SPREAD_TITLE = "Spread of the total"
 MAX_POINTS = 800  # a grid this fine is indistinguishable on screen and keeps the PDF small
 
 
@@ -57,7 +60,7 @@ def draw_s_curve(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     ax.set_xlabel(axis_label("Total", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Confidence level (%)", fontsize=FONT_SIZE)
     ax.set_ylim(0, 100)
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)
 
 
 def _mark_levels_on_curves(ax: Axes, analysis: Analysis) -> None:
@@ -140,13 +143,13 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
             gid=f"level-P{r.level:g}",
         )
         level_label(ax, r.value, f"P{r.level:g}")
-    style_axes(ax, "Distribution of the total")
+    style_axes(ax, SPREAD_TITLE)
     money_axis(ax.xaxis)
     ax.set_xlabel(axis_label("Total", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Density", fontsize=FONT_SIZE)
     ax.set_ylim(bottom=0)
     ax.tick_params(labelleft=False)
-    ax.legend(fontsize=FONT_SIZE, loc="best", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)
 
 
 def _coarsened(total: GridTotal, lo: float, hi: float) -> tuple[np.ndarray, np.ndarray]:

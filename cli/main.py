@@ -11,13 +11,17 @@ from dataclasses import replace
 from pathlib import Path
 from typing import TextIO
 
+from charts.numbers import count
 from cli.allocation_text import add_budget_option, parse_budgets, print_allocation
 from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
 from engine.allocation import allocate
-from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
+GUIDE_POINTER = (
+    "What each figure means, how to read the verdict, the input formats and the limits: "
+    "the user guide, docs/user_guide.md (also under Help > User guide in the window)."
+)
 
 
 class UsageProblem(Exception):
@@ -41,6 +45,9 @@ def add_analysis_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--sampling", choices=("lhs", "random"))
     parser.add_argument("--paper", choices=("a4", "letter"), default="a4", help="PDF paper")
     parser.add_argument(
+        "--unit", help="currency or unit of the amounts, e.g. EUR or 'working days'"
+    )
+    parser.add_argument(
         "--accept-repair",
         action="store_true",
         help="use the nearest valid correlation matrix when the stated one is not valid",
@@ -52,15 +59,18 @@ def build_parser() -> argparse.ArgumentParser:
         prog="rangefold",
         description="Totals of uncertain line items beside the normal shortcut, "
         "and a contingency report.",
+        epilog=GUIDE_POINTER,
     )
     commands = parser.add_subparsers(dest="command")
 
-    report = commands.add_parser("report", help="analyse an estimate and write the report")
+    report = commands.add_parser(
+        "report", help="analyse an estimate and write the report", epilog=GUIDE_POINTER
+    )
     report.add_argument("input", help="estimate: .csv, .tsv, .txt, .xlsx, .xlsm or .rangefold")
     report.add_argument("-o", "--output", help="report file: .xlsx, .pdf or .json")
     report.add_argument("--json", action="store_true", help="print the analysis as JSON")
+    report.add_argument("--title", help="the estimate's name in the report (default: the file's)")
     add_analysis_options(report)
-
     add_budget_option(report)
     add_compare_parser(commands)
 
@@ -131,7 +141,7 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
     """Print the import summary; list every problem on stderr (exit 2 if there are any)."""
     estimate = read(path)
     summary = estimate.summary
-    print(f"{path.name}: {len(estimate.items)} line item(s)", file=out)
+    print(f"{path.name}: {count(len(estimate.items), 'line item')}", file=out)
     for key, label in (
         ("sheet", "sheet"),
         ("header_row", "header row"),
@@ -140,12 +150,16 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
         ("drafts", "drafts (rows with problems, kept)"),
     ):
         if summary.get(key) is not None:
-            print(f"  {label}: {summary[key]}", file=out)
+            value = summary[key]
+            shown = (
+                count(value) if isinstance(value, int) and not isinstance(value, bool) else value
+            )
+            print(f"  {label}: {shown}", file=out)
     for skipped in summary.get("rows_skipped", []):
         print(f"  row {skipped['row']} skipped: {skipped['reason']}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
     if problems:
-        print(f"  {len(problems)} problem(s), listed on stderr", file=out)
+        print(f"  {count(len(problems), 'problem')}, listed on stderr", file=out)
         return _problems(problems, err)
     print("  no problems found", file=out)
     return OK
@@ -169,8 +183,8 @@ def settings_for(args: argparse.Namespace, estimate: Estimate) -> Settings:
     settings = base if isinstance(base, Settings) else Settings(unit=estimate.unit)
     changes = {
         name: getattr(args, name)
-        for name in ("method", "trials", "seed", "tolerance", "sampling")
-        if getattr(args, name) is not None
+        for name in ("method", "trials", "seed", "tolerance", "sampling", "unit")
+        if getattr(args, name, None) is not None
     }
     if args.levels:
         changes["levels"] = parse_levels(args.levels)
@@ -194,6 +208,8 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     estimate = read(path)
     if args.accept_repair:
         estimate.correlation.accept_repair = True
+    if args.title is not None:
+        estimate.title = args.title
     settings = settings_for(args, estimate)
     budgets = parse_budgets(args.budget)
     analysis = analyze(estimate, **settings.analyze_kwargs())
@@ -223,19 +239,30 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
 def print_summary(analysis, unit: str, out: TextIO, allocation=None) -> None:
     """The levels as a terminal table, for a quick look without writing a file."""
-    from reports.caution import CAUTION
+    from charts import numbers
+    from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 
     print(analysis.summary, file=out)
     print(f"method: {analysis.method} ({analysis.method_reason})", file=out)
-    print(f"base estimate: {compact(analysis.base_estimate)} {unit}".rstrip(), file=out)
-    header = f"{'level':>6} {'total':>12} {'contingency':>12} {'normal':>12} {'gap %':>7}  verdict"
+    print(f"base estimate: {numbers.compact(analysis.base_estimate, unit)}", file=out)
+    figures = [v for r in analysis.levels for v in (r.value, r.contingency, r.normal)]
+    decimals = numbers.decimals_for(figures)
+    header = (
+        f"{'level':>6} {'total':>14} {'contingency':>14} {'normal shortcut':>16} "
+        f"{'gap %':>7}  verdict"
+    )
     print(header, file=out)
     for r in analysis.levels:
+        total, contingency, normal = (
+            numbers.money(v, decimals=decimals) for v in (r.value, r.contingency, r.normal)
+        )
+        gap = numbers.percent(r.gap_pct / 100, sign=True)
         print(
-            f"{'P' + format(r.level, 'g'):>6} {r.value:>12,.0f} {r.contingency:>12,.0f} "
-            f"{r.normal:>12,.0f} {r.gap_pct:>6.1f}%  {r.verdict}",
+            f"{numbers.level(r.level):>6} {total:>14} {contingency:>14} {normal:>16} "
+            f"{gap:>7}  {r.verdict}",
             file=out,
         )
+    print(NORMAL_SHORTCUT_GLOSS, file=out)
     if allocation is not None:
         print_allocation(allocation, unit, out)
     print(CAUTION, file=out)

@@ -44,7 +44,7 @@ from engine.shortcut.normal import (
     normal_percentile,
     sum_of_item_percentiles,
 )
-from engine.shortcut.verdict import dependence_reasons, reasons_for, summary_sentence
+from engine.shortcut.verdict import count, dependence_reasons, reasons_for, summary_sentence
 from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
@@ -230,9 +230,10 @@ def analyze(
         why = (
             "simulation was chosen in the settings"
             if method == "simulation"
-            else f"{linked} pair(s) of items are correlated, so the total is simulated"
+            else f"{count(linked, 'pair')} of items {'is' if linked == 1 else 'are'} correlated,"
+            " so the total is simulated"
             " (exact convolution needs independent items)"
-        ) + "; the correlations are induced by Iman-Conover"
+        ) + "; the correlations are induced by Iman–Conover"
         if aims.repaired:
             why += " on the nearest valid correlation matrix (repair accepted)"
         if aims.pearson_repaired:
@@ -406,7 +407,7 @@ def base_estimate(items: Sequence[LineItem]) -> tuple[float, str]:
     basis = "sum of the base items' point values: " + (", ".join(parts) if parts else "none")
     events = sum(1 for i in items if i.is_risk_event)
     if events:
-        basis += f"; {events} risk event(s) excluded (contingency carries them)"
+        basis += f"; {count(events, 'risk event')} excluded (contingency carries them)"
     return math.fsum(v for v, _ in values), basis
 
 

@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (
     QComboBox,
     QCompleter,
     QDialog,
+    QDialogButtonBox,
     QDoubleSpinBox,
     QFormLayout,
     QGroupBox,
@@ -32,6 +33,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts.numbers import count
 from engine.dependence.correlation import repair_preview, spec_problems
 from gui import correlation_commands as commands
 from gui.correlation_matrix import SCALE, MatrixModel
@@ -142,7 +144,12 @@ class CorrelationPanel(QWidget):
         groups_layout = QVBoxLayout(groups_box)
         groups_layout.addWidget(self.groups)
         groups_layout.addWidget(
-            QLabel("Leave a coefficient empty to use the default for that group.", wordWrap=True)
+            QLabel(
+                "A group's coefficient applies to every pair of items in that group. Leave it "
+                "empty and those pairs take the coefficient under 'Every other pair'.",
+                wordWrap=True,
+                objectName="group-help",
+            )
         )
 
         self.default = QDoubleSpinBox(objectName="default-coefficient")
@@ -190,7 +197,7 @@ class CorrelationPanel(QWidget):
         self.matrix.horizontalHeader().setMinimumSectionSize(30)
         self.matrix.verticalHeader().setDefaultSectionSize(24)
         self.matrix_caption = QLabel(wordWrap=True, objectName="matrix-caption")
-        legend = QLabel(_legend_html(), objectName="matrix-legend")
+        legend = QLabel(_legend_html(), objectName="matrix-legend", wordWrap=True)
         matrix_box = QGroupBox("The resulting matrix (as stated, before any repair)")
         matrix_layout = QVBoxLayout(matrix_box)
         matrix_layout.addWidget(self.matrix_caption)
@@ -244,7 +251,7 @@ class CorrelationPanel(QWidget):
         rows = sorted({i.row() for i in self.pairs.selectedIndexes()})
         if rows:
             self._change(
-                lambda: commands.remove_pairs(self.spec, rows), f"remove {len(rows)} pair(s)"
+                lambda: commands.remove_pairs(self.spec, rows), f"remove {count(len(rows), 'pair')}"
             )
 
     def accept_repair(self) -> None:
@@ -434,9 +441,19 @@ class CorrelationPanel(QWidget):
         box.setInsertPolicy(QComboBox.InsertPolicy.NoInsert)
         box.completer().setFilterMode(Qt.MatchFlag.MatchContains)
         box.completer().setCaseSensitivity(Qt.CaseSensitivity.CaseInsensitive)
-        box.setMinimumContentsLength(12)
+        box.setMinimumContentsLength(16)
         box.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        # Long names keep both ends readable in the list; the chosen name shows from its
+        # start, with the whole of it in the tooltip.
+        box.view().setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        box.currentTextChanged.connect(box.setToolTip)
+        box.currentIndexChanged.connect(lambda _index, box=box: _show_start(box))
         return box
+
+
+def _show_start(box: QComboBox) -> None:
+    if not box.lineEdit().hasFocus():
+        box.lineEdit().setCursorPosition(0)
 
 
 def _legend_html() -> str:
@@ -459,4 +476,8 @@ class CorrelationDialog(QDialog):
         layout = QVBoxLayout(self)
         layout.setContentsMargins(6, 6, 6, 6)
         layout.addWidget(self.panel)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close, objectName="close")
+        buttons.rejected.connect(self.close)
+        # Edits apply as they are made (each one undoable), so Close is all the dialog needs.
+        layout.addWidget(buttons)
         self.resize(1180, 720)

@@ -14,6 +14,7 @@ from PySide6.QtWidgets import QComboBox, QLineEdit, QStyledItemDelegate, QToolTi
 
 from engine import FAMILIES
 from gui.item_text import TABLE_COLUMNS
+from reports.content import family_name
 
 
 def cell_parser(column: str) -> Callable[[str], object] | None:
@@ -34,7 +35,8 @@ def cell_parser(column: str) -> Callable[[str], object] | None:
 class FamilyDelegate(QStyledItemDelegate):
     def createEditor(self, parent: QWidget, option, index: QModelIndex) -> QWidget:
         combo = QComboBox(parent)
-        combo.addItems(FAMILIES)
+        for family in FAMILIES:
+            combo.addItem(family_name(family), family)
         combo.setEditable(False)
         return combo
 
@@ -44,11 +46,11 @@ class FamilyDelegate(QStyledItemDelegate):
             editor.setCurrentIndex(FAMILIES.index(text))
         else:
             # An imported family the engine does not know stays visible until replaced.
-            editor.insertItem(0, text)
+            editor.insertItem(0, text, text)
             editor.setCurrentIndex(0)
 
     def setModelData(self, editor: QComboBox, model, index: QModelIndex) -> None:
-        model.setData(index, editor.currentText(), Qt.ItemDataRole.EditRole)
+        model.setData(index, editor.currentData(), Qt.ItemDataRole.EditRole)
 
 
 class CheckedTextDelegate(QStyledItemDelegate):

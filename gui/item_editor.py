@@ -12,6 +12,7 @@ from collections.abc import Sequence
 from PySide6.QtCore import QObject, Signal
 from PySide6.QtGui import QUndoStack
 
+from charts.numbers import count
 from engine import Estimate, LineItem
 from gui.clipboard_text import items_to_tsv, tsv_to_cells
 from gui.commands import (
@@ -74,20 +75,22 @@ class ItemEditor(QObject):
 
     def delete_rows(self, rows: Sequence[int]) -> None:
         if rows:
-            self._push(RemoveItems(tuple(sorted(set(rows)))), f"delete {len(set(rows))} row(s)")
+            self._push(
+                RemoveItems(tuple(sorted(set(rows)))), f"delete {count(len(set(rows)), 'row')}"
+            )
 
     def duplicate_rows(self, rows: Sequence[int]) -> list[int]:
         if not rows:
             return []
         command = duplicate_rows(self.model.items, rows)
-        self._push(command, f"duplicate {len(set(rows))} row(s)")
+        self._push(command, f"duplicate {count(len(set(rows)), 'row')}")
         return command.rows
 
     def move_rows(self, rows: Sequence[int], delta: int) -> list[int]:
         command = move_rows(len(self.model.items), rows, delta)
         if command is None:
             return list(rows)
-        self._push(command, "move row(s) up" if delta < 0 else "move row(s) down")
+        self._push(command, "move rows up" if delta < 0 else "move rows down")
         return [r + delta for r in sorted(set(rows))]
 
     def insert_items(self, items: Sequence[LineItem], at: int | None, text: str) -> list[int]:
@@ -106,7 +109,7 @@ class ItemEditor(QObject):
         """
         rows = tsv_to_cells(text)
         items = [item_from_text(cells) for cells in rows]
-        return self.insert_items(items, at, f"paste {len(items)} row(s)")
+        return self.insert_items(items, at, f"paste {count(len(items), 'row')}")
 
     def copy_text(self, rows: Sequence[int]) -> str:
         return items_to_tsv(self.model.items[r] for r in sorted(set(rows)))

@@ -15,6 +15,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 from PySide6.QtGui import QBrush, QColor, QFont, QIcon
 from PySide6.QtWidgets import QApplication, QStyle
 
+from charts import numbers
 from engine import Estimate, LineItem, Problem, build_distribution
 from engine.families.distributions import Distribution
 from engine.validation import ItemInvalid
@@ -24,7 +25,6 @@ from gui.item_text import (
     NUMBER_COLUMNS,
     TABLE_COLUMNS,
     display_cells,
-    display_number,
     item_cells,
 )
 
@@ -58,6 +58,9 @@ def check_item(item: LineItem) -> ItemCheck:
     return ItemCheck(dist, problems, by_column)
 
 
+LONG_CELL = 16  # characters past which a cell may be elided, so its tooltip shows it whole
+
+
 class ItemTableModel(QAbstractTableModel):
     # Emitted after any change to the items.
     items_changed = Signal()
@@ -70,6 +73,8 @@ class ItemTableModel(QAbstractTableModel):
         self._estimate = estimate or Estimate()
         self._checks: dict[int, tuple[LineItem, ItemCheck]] = {}
         self._warning_icon: QIcon | None = None
+        self._decimals: int | None = None  # of the Mean and SD columns, for all rows alike
+        self.items_changed.connect(self._forget_decimals)
 
     # --- the estimate -------------------------------------------------------------------
     @property
@@ -86,6 +91,16 @@ class ItemTableModel(QAbstractTableModel):
         self._checks.clear()
         self.endResetModel()
         self.items_changed.emit()
+
+    def decimals(self) -> int:
+        """The Mean and SD columns' decimals, from the largest value typed in any row."""
+        if self._decimals is None:
+            typed = (v for i in self.items for v in (i.low, i.most_likely, i.high))
+            self._decimals = numbers.decimals_for(typed)
+        return self._decimals
+
+    def _forget_decimals(self) -> None:
+        self._decimals = None
 
     def check(self, row: int) -> ItemCheck:
         item = self.items[row]
@@ -171,7 +186,9 @@ class ItemTableModel(QAbstractTableModel):
             dist = self.check(row).distribution
             if dist is None:
                 return ""
-            return display_number(dist.mean if column == "Mean" else dist.sd)
+            return numbers.money(
+                dist.mean if column == "Mean" else dist.sd, decimals=self.decimals()
+            )
         if role == Qt.ItemDataRole.EditRole:
             return item_cells(item).get(column, "")
         if role == Qt.ItemDataRole.ToolTipRole:
@@ -180,6 +197,8 @@ class ItemTableModel(QAbstractTableModel):
                 return "\n".join(messages)
             if column == "Probability" and item.is_risk_event:
                 return "Risk event: costs nothing when it does not occur."
+            if column in EDIT_COLUMNS and len(display_cells(item)[column]) > LONG_CELL:
+                return display_cells(item)[column]  # whole, where the cell elides it
             return None
         if role == Qt.ItemDataRole.BackgroundRole:
             if column in self.check(row).by_column:

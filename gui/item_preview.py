@@ -5,10 +5,10 @@ from __future__ import annotations
 import numpy as np
 from PySide6.QtWidgets import QFormLayout, QHBoxLayout, QLabel, QWidget
 
+from charts import numbers
 from engine import LineItem
 from gui.chart_canvas import ChartCanvas
 from gui.item_model import ItemCheck
-from gui.item_text import display_number
 
 FIGURES = ("Mean", "SD", "P10", "P50", "P90", "Probability")
 
@@ -48,15 +48,13 @@ class ItemPreview(QWidget):
         from charts.item import draw_item_preview
 
         p10, p50, p90 = (float(v) for v in dist.ppf(np.array([0.1, 0.5, 0.9])))
-        for name, value in (
-            ("Mean", dist.mean),
-            ("SD", dist.sd),
-            ("P10", p10),
-            ("P50", p50),
-            ("P90", p90),
-        ):
-            self.values[name].setText(display_number(value) + (f" {unit}" if unit else ""))
+        figures = {"Mean": dist.mean, "SD": dist.sd, "P10": p10, "P50": p50, "P90": p90}
+        decimals = numbers.decimals_for(figures.values())
+        for name, value in figures.items():
+            self.values[name].setText(numbers.money(value, unit, decimals))
         self.values["Probability"].setText(
-            f"{100 * item.probability:g}% (risk event)" if item.is_risk_event else "certain"
+            f"{numbers.probability(item.probability)} (risk event)"
+            if item.is_risk_event
+            else "certain"
         )
         self.canvas.show_chart(draw_item_preview, item, dist, unit=unit)

@@ -11,7 +11,13 @@ from gui.delegates import CheckedTextDelegate, FamilyDelegate
 from gui.item_editor import ItemEditor
 from gui.item_text import EDIT_COLUMNS, TABLE_COLUMNS
 
-COLUMN_WIDTHS = {"Item": 180, "Group": 84, "Distribution": 84, "Most likely": 92}
+NAME, GROUP = TABLE_COLUMNS.index("Item"), TABLE_COLUMNS.index("Group")
+LAST_TYPED = TABLE_COLUMNS.index("High")  # the names and figures up to here stay in view
+# Names give way down to these widths before the columns scroll; the group gets at most
+# this share of what is left, the item name the rest.
+NAME_MIN_WIDTH, GROUP_MIN_WIDTH, GROUP_SHARE = 140, 64, 0.3
+FIGURE_MAX_WIDTH = 100  # a list of discrete values elides rather than push columns away
+ROWS_MEASURED = 60  # rows sampled when sizing columns to content: fast on long estimates
 
 
 class ItemTableView(QTableView):
@@ -38,14 +44,45 @@ class ItemTableView(QTableView):
         header = self.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(False)
-        for name, width in COLUMN_WIDTHS.items():
-            self.setColumnWidth(TABLE_COLUMNS.index(name), width)
-        for name in TABLE_COLUMNS:
-            if name not in COLUMN_WIDTHS:
-                self.setColumnWidth(TABLE_COLUMNS.index(name), 70)
+        header.setResizeContentsPrecision(ROWS_MEASURED)
+        # Long names lose their middle, not their end; the full name is in the tooltip.
+        self.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        editor.model.modelReset.connect(self.fit_columns)
+        self.fit_columns()
         vertical = self.verticalHeader()
         vertical.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         vertical.setDefaultSectionSize(self.fontMetrics().height() + 8)
+
+    # --- columns ------------------------------------------------------------------------
+    def fit_columns(self) -> None:
+        """Every column as wide as its content; when that overflows the pane, the Item and
+        Group columns give up the difference (down to a minimum, names elide well) so that
+        the typed figures up to High stay in view."""
+        self.resizeColumnsToContents()
+        for column in range(self.model().columnCount()):
+            if column not in (NAME, GROUP):
+                self.setColumnWidth(column, min(self.columnWidth(column), FIGURE_MAX_WIDTH))
+        self._natural = (self.columnWidth(NAME), self.columnWidth(GROUP))
+        self._share_width()
+
+    def _share_width(self) -> None:
+        name, group = getattr(self, "_natural", (self.columnWidth(NAME), self.columnWidth(GROUP)))
+        columns = self.model().columnCount()
+        everything = sum(self.columnWidth(c) for c in range(columns) if c not in (NAME, GROUP))
+        typed = sum(self.columnWidth(c) for c in range(LAST_TYPED + 1) if c not in (NAME, GROUP))
+        # Everything in view if it fits; else the names share what the typed figures leave,
+        # and the later columns (percentages, mean, SD) scroll.
+        fits = self.viewport().width() - everything >= name + group
+        room = self.viewport().width() - (everything if fits else typed)
+        if name + group > room:
+            group = max(GROUP_MIN_WIDTH, min(group, int(room * GROUP_SHARE)))
+            name = max(NAME_MIN_WIDTH, room - group)
+        self.setColumnWidth(NAME, name)
+        self.setColumnWidth(GROUP, group)
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        self._share_width()
 
     # --- rows ---------------------------------------------------------------------------
     def selected_rows(self) -> list[int]:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from engine import LineItem
 from engine.schedule.paths import path_text
+from reports.content import discrete_shown, family_name
 
 # Columns of the item table, in order; the first ten are typed by the user.
 EDIT_COLUMNS = (
@@ -84,14 +85,19 @@ def item_cells(item: LineItem) -> dict[str, str]:
 
 
 def display_cells(item: LineItem) -> dict[str, str]:
-    """Cells as shown: numbers with thousands separators, discrete values as typed."""
+    """Cells as shown: numbers and discrete values with thousands separators,
+    families as the trade writes them (PERT)."""
     shown = item_cells(item)
+    if "Distribution" not in item.raw:
+        shown["Distribution"] = family_name(item.family)
     for column, value in (
         ("Low", item.low),
         ("High", item.high),
         ("Most likely", item.most_likely),
     ):
         discrete_ml = column == "Most likely" and item.family == "discrete" and item.values
-        if value is not None and column not in item.raw and not discrete_ml:
+        if discrete_ml and column not in item.raw:
+            shown[column] = discrete_shown(item.values)
+        elif value is not None and column not in item.raw and not discrete_ml:
             shown[column] = display_number(value)
     return shown

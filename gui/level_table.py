@@ -11,6 +11,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QBrush, QColor, QFont
 from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QTableWidget, QTableWidgetItem
 
+from charts import numbers
 from engine import Analysis, LevelRow
 
 # Verdicts differ by a leading symbol and weight as well as by colour.
@@ -21,56 +22,78 @@ VERDICT_LOOK = {
 }
 
 
-def _money(value: float | None) -> str:
-    """Whole units for sums of a hundred and more; four figures for small ones."""
-    if value is None:
-        return ""
-    return f"{value:,.0f}" if abs(value) >= 100 else f"{value:,.4g}"
-
-
-def _pct(value: float | None) -> str:
-    return "" if value is None else f"{value:+.1f}%"
-
-
-Column = tuple[str, Callable[[LevelRow], str], str]
+# A column: header, the row's value, its kind ("money", "percent" or "text"), tooltip.
+Column = tuple[str, Callable[[LevelRow], object], str, str]
 
 BASE_COLUMNS: tuple[Column, ...] = (
-    ("Level", lambda r: f"P{r.level:g}", "confidence level"),
-    ("Total", lambda r: _money(r.value), "the total at this level, computed from the items"),
-    ("Contingency", lambda r: _money(r.contingency), "total at this level minus base estimate"),
-    ("Cont. %", lambda r: _pct(r.contingency_pct), "contingency as a share of the base estimate"),
-    ("Normal", lambda r: _money(r.normal), "sum of means and variances on a normal curve"),
-    ("Gap", lambda r: _money(r.gap), "normal shortcut minus the total: negative understates"),
-    ("Gap %", lambda r: _pct(r.gap_pct), "gap as a share of the total"),
-    ("Verdict", lambda r: VERDICT_LOOK[r.verdict][0], "does the shortcut hold at this level"),
+    ("Level", lambda r: numbers.level(r.level), "text", "confidence level"),
+    ("Total", lambda r: r.value, "money", "the total at this level, computed from the items"),
+    ("Contingency", lambda r: r.contingency, "money", "total at this level minus base estimate"),
+    (
+        "Contingency %",
+        lambda r: r.contingency_pct,
+        "percent",
+        "contingency as a share of the base estimate",
+    ),
+    (
+        "Normal shortcut",
+        lambda r: r.normal,
+        "money",
+        "the items' means and variances added, read off a normal curve",
+    ),
+    ("Gap", lambda r: r.gap, "money", "normal shortcut minus the total: negative understates"),
+    ("Gap %", lambda r: r.gap_pct, "percent", "gap as a share of the total"),
+    ("Verdict", lambda r: VERDICT_LOOK[r.verdict][0], "text", "does the shortcut hold here"),
     (
         "Cornish–Fisher",
-        lambda r: _money(r.cornish_fisher),
+        lambda r: r.cornish_fisher,
+        "money",
         "normal shortcut corrected for skewness and kurtosis (Cornish–Fisher)",
     ),
     (
-        "Sum of item P",
-        lambda r: _money(r.sum_of_items),
+        "Sum of item percentiles",
+        lambda r: r.sum_of_items,
+        "money",
         "each item's own percentile, added up (overstates spread)",
     ),
 )
 SIMULATION_COLUMN: Column = (
-    "Std. error",
-    lambda r: _money(r.standard_error),
+    "Standard error",
+    lambda r: r.standard_error,
+    "money",
     "simulation standard error of the total at this level",
 )
 DEPENDENT_COLUMNS: tuple[Column, ...] = (
     (
         "Normal with correlation",
-        lambda r: _money(r.normal_dependent),
+        lambda r: r.normal_dependent,
+        "money",
         "normal shortcut with the stated correlations in its variance (covariances added)",
     ),
     (
         "If independent",
-        lambda r: _money(r.independent_value),
+        lambda r: r.independent_value,
+        "money",
         "the total of the same items with every correlation set to 0 (exact convolution)",
     ),
 )
+
+
+def cell_text(value: object, kind: str, decimals: int) -> str:
+    if value is None:
+        return ""
+    if kind == "money":
+        return numbers.money(value, decimals=decimals)
+    if kind == "percent":
+        return numbers.percent(value / 100, sign=True)
+    return str(value)
+
+
+def money_decimals(analysis: Analysis, columns: list[Column]) -> int:
+    """One number of decimals for every sum in the table, from the largest."""
+    return numbers.decimals_for(
+        value(r) for _, value, kind, _ in columns if kind == "money" for r in analysis.levels
+    )
 
 
 def columns_for(analysis: Analysis) -> list[Column]:
@@ -78,8 +101,8 @@ def columns_for(analysis: Analysis) -> list[Column]:
     if any(r.standard_error is not None for r in analysis.levels):
         columns.append(SIMULATION_COLUMN)
     for column in DEPENDENT_COLUMNS:
-        text = column[1]
-        if any(text(r) for r in analysis.levels):
+        value = column[1]
+        if any(value(r) is not None for r in analysis.levels):
             columns.append(column)
     return columns
 
@@ -100,15 +123,16 @@ class LevelTable(QTableWidget):
         self.clear()
         self.setColumnCount(len(columns))
         self.setRowCount(len(analysis.levels))
-        for k, (name, _, tip) in enumerate(columns):
+        decimals = money_decimals(analysis, columns)
+        for k, (name, _, _, tip) in enumerate(columns):
             header = QTableWidgetItem(name)
             header.setToolTip(tip)
             self.setHorizontalHeaderItem(k, header)
         bold = QFont()
         bold.setBold(True)
         for r, row in enumerate(analysis.levels):
-            for k, (name, text, _) in enumerate(columns):
-                cell = QTableWidgetItem(text(row))
+            for k, (name, value, kind, _) in enumerate(columns):
+                cell = QTableWidgetItem(cell_text(value(row), kind, decimals))
                 align = (
                     Qt.AlignmentFlag.AlignLeft
                     if name in ("Level", "Verdict")

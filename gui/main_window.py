@@ -28,11 +28,14 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts import numbers
 from engine import Estimate, Settings
 from gui.compare_dialog import compare_with
+from gui.help_menu import add_help_menu
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
 from gui.item_table import ItemTableView
+from gui.pane_widths import keep_usable_widths
 from gui.recompute import Outcome, Recomputer
 from gui.recovery import RecoveryStore
 from gui.results_panel import ResultsPanel
@@ -132,12 +135,12 @@ class MainWindow(QMainWindow):
             row_bar.addWidget(button)
             self.row_buttons[key] = button
         row_bar.addStretch(1)
-        self.left_out = QLabel(objectName="left-out")
+        # On a line of its own and wrapped: a long notice must not widen the items pane.
+        self.left_out = QLabel(objectName="left-out", wordWrap=True)
         self.left_out.setStyleSheet(
             "background: #fde3a7; color: #3d2600; padding: 2px 6px; border-left: 4px solid #b35806;"
         )
         self.left_out.hide()
-        row_bar.addWidget(self.left_out)
 
         items_box = QWidget()
         items_layout = QVBoxLayout(items_box)
@@ -145,6 +148,7 @@ class MainWindow(QMainWindow):
         title = QLabel("<b>Line items</b>")
         items_layout.addWidget(title)
         items_layout.addLayout(row_bar)
+        items_layout.addWidget(self.left_out)
         items_layout.addWidget(self.table, 1)
 
         preview_box = QGroupBox("Selected item")
@@ -167,9 +171,10 @@ class MainWindow(QMainWindow):
         self.splitter = QSplitter(Qt.Orientation.Horizontal)
         self.splitter.addWidget(left)
         self.splitter.addWidget(results_box)
+        keep_usable_widths(self.splitter, left, results_box)
         self.splitter.setStretchFactor(0, 1)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([540, 620])  # the level table needs the width
+        self.splitter.setSizes([620, 540])  # the typed figures in view; results keep their minimum
 
         self.caution = QLabel(caution_text(), objectName="caution", wordWrap=True)
         self.caution.setStyleSheet("color: #3a4750; font-style: italic; padding: 2px 6px;")
@@ -293,6 +298,7 @@ class MainWindow(QMainWindow):
             "Pairs, groups and a default coefficient for items that move together",
         )
         self._update_recent_menu()
+        add_help_menu(self)
 
     def _connect(self) -> None:
         self.model.items_changed.connect(self._items_changed)
@@ -406,7 +412,9 @@ class MainWindow(QMainWindow):
         if estimate is None:
             return []
         rows = self.editor.insert_items(
-            estimate.items, None, f"import {len(estimate.items)} item(s) from {path.name}"
+            estimate.items,
+            None,
+            f"import {numbers.count(len(estimate.items), 'item')} from {path.name}",
         )
         self.table.select_rows(rows)
         return rows
@@ -606,9 +614,13 @@ class MainWindow(QMainWindow):
 
     def schedule_recompute(self, now: bool = False) -> None:
         estimate, left_out, pairs_left_out = self.analysed_estimate()
-        pairs = f" with {pairs_left_out} correlation pair(s) naming them" if pairs_left_out else ""
+        pairs = (
+            f" with {numbers.count(pairs_left_out, 'correlation pair')} naming them"
+            if pairs_left_out
+            else ""
+        )
         self.left_out.setText(
-            f"⚠ {left_out} row{'s' if left_out != 1 else ''}{pairs} left out of the total "
+            f"⚠ {numbers.count(left_out, 'row')}{pairs} left out of the total "
             "(marked cells; hover for the fix)"
         )
         self.left_out.setVisible(left_out > 0)
@@ -632,7 +644,7 @@ class MainWindow(QMainWindow):
 
     def _compute_started(self, _request_id: int) -> None:
         count = len(self.model.items)
-        self.compute_label.setText(f"Computing the total of {count:,} item(s)…")
+        self.compute_label.setText(f"Computing the total of {numbers.count(count, 'item')}…")
         self.progress.setValue(0)
         self.progress.show()
         self.cancel_button.show()
@@ -651,7 +663,9 @@ class MainWindow(QMainWindow):
         analysis = outcome.analysis
         left_out = outcome.estimate.summary.get("drafts", 0)
         notices = (
-            [f"{left_out} row(s) left out of the total: fix the marked cells."] if left_out else []
+            [f"{numbers.count(left_out, 'row')} left out of the total: fix the marked cells."]
+            if left_out
+            else []
         )
         self.results.show_analysis(analysis, outcome.settings.unit, notices)
         self.results.allocation.compute(outcome.estimate, analysis, outcome.settings.unit)

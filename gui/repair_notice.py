@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout,
 )
 
+from charts.numbers import count
 from engine.dependence.correlation import RepairPreview
 
 CHANGES_SHOWN = 5
@@ -35,7 +36,7 @@ def explanation(preview: RepairPreview) -> str:
         "each other (the matrix is not positive semi-definite: smallest eigenvalue "
         f"{preview.smallest_eigenvalue:.3f}), so nothing was computed. Either lower the "
         "coefficients that clash, or accept the nearest valid matrix (Higham 2002); the "
-        f"repair would change {len(preview.changes):,} pair(s), most of all:"
+        f"repair would change {count(len(preview.changes), 'pair')}, most of all:"
     )
 
 

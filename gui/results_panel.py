@@ -6,6 +6,7 @@ shown, because a burst of edits should not pay for four figures each time.
 
 from __future__ import annotations
 
+import numpy as np
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -18,24 +19,30 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts import numbers
 from engine import Analysis
 from gui.allocation_panel import AllocationPanel
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
 from gui.paths_panel import PATHS_TAB, PathsPanel
 from gui.repair_notice import RepairNotice
+from reports.content import reasons_heading
 
 LINKS_SHOWN = 25
-LINKS_TAB = "Links"
+LINKS_TAB = "Rank correlation with the total"
+DRIVERS_TIP = (
+    "Share of variance: how much of the total's spread each item brings. Share of skewness: "
+    "each item's part of the total's third cumulant, i.e. how much it makes the total lean."
+)
 
 
 def _chart_functions():
     from charts.drivers import draw_drivers
     from charts.gap import draw_gap_curve
-    from charts.total import draw_density, draw_s_curve
+    from charts.total import SPREAD_TITLE, draw_density, draw_s_curve
 
     return (
-        ("Spread of the total", draw_density, True),
+        (SPREAD_TITLE, draw_density, True),
         ("S-curve", draw_s_curve, True),
         ("Shortcut gap", draw_gap_curve, True),
         ("What drives it", draw_drivers, False),
@@ -48,7 +55,13 @@ def dependence_text(analysis: Analysis, unit: str = "") -> str:
     dependence = analysis.dependence
     if dependence is None:
         return ""
-    text = f"Correlation between {len(dependence.names):,} items is included."
+    pairs, items = correlated_counts(dependence)
+    rest = len(dependence.names) - items
+    text = (
+        f"{numbers.count(pairs, 'pair')} of items {'is' if pairs == 1 else 'are'} correlated, "
+        f"among {numbers.count(items, 'item')}"
+        + (f"; the other {numbers.count(rest, 'item')} are independent." if rest else ".")
+    )
     if dependence.repaired:
         text += (
             " REPAIR IN FORCE: the stated coefficients contradict each other, so these "
@@ -56,21 +69,30 @@ def dependence_text(analysis: Analysis, unit: str = "") -> str:
         )
         if dependence.largest_change:
             a, b, old, new = dependence.largest_change
-            text += f" (largest change: {a} / {b}, {old:+.2f} → {new:+.2f})"
+            old, new = numbers.coefficient(old, sign=True), numbers.coefficient(new, sign=True)
+            text += f" (largest change: {a} / {b}, {old} → {new})"
         text += "."
     row = headline_row(analysis)
     if row is not None and row.independent_value is not None:
-        suffix = f" {unit}" if unit else ""
+        figures = (row.value, row.independent_value, row.normal_dependent)
+        decimals = numbers.decimals_for(figures)
+        value, independent, normal = (numbers.money(x, unit, decimals) for x in figures)
         text += (
-            f" P{row.level:g} is {row.value:,.0f}{suffix} with correlation, "
-            f"{row.independent_value:,.0f}{suffix} if independent; the normal shortcut with "
-            f"correlation gives {row.normal_dependent:,.0f}{suffix}."
+            f" {numbers.level(row.level)} is {value} with correlation, {independent} if "
+            f"independent; the normal shortcut with correlation gives {normal}."
         )
     text += (
         " Largest difference between stated and achieved rank correlation: "
-        f"{dependence.achieved_max_deviation:.3f}."
+        f"{numbers.statistic(dependence.achieved_max_deviation, 3)}."
     )
     return text
+
+
+def correlated_counts(dependence) -> tuple[int, int]:
+    """Pairs with a non-zero coefficient in use, and the items they involve."""
+    used = np.asarray(dependence.used)
+    upper = np.triu(used != 0, k=1)
+    return int(upper.sum()), int((upper | upper.T).any(axis=0).sum())
 
 
 def headline_row(analysis: Analysis):
@@ -90,8 +112,8 @@ def fill_links(table: QTableWidget, analysis: Analysis) -> bool:
     for r, driver in enumerate(linked[:LINKS_SHOWN]):
         cells = (
             driver.name,
-            f"{driver.rank_correlation_with_total:+.2f}",
-            f"{100 * driver.variance_share:.1f}%",
+            numbers.coefficient(driver.rank_correlation_with_total, sign=True),
+            numbers.percent(driver.variance_share),
         )
         for c, text in enumerate(cells):
             cell = QTableWidgetItem(text)
@@ -136,7 +158,12 @@ class ResultsPanel(QWidget):
             2, QHeaderView.ResizeMode.ResizeToContents
         )
         self._links_index = self.tabs.addTab(self.links, LINKS_TAB)
-        self.tabs.setTabToolTip(self._links_index, "Each item's rank correlation with the total")
+        self.tabs.setTabToolTip(
+            self._links_index,
+            "Each item's rank correlation with the simulated total: how closely the total "
+            "rises and falls with it",
+        )
+        self.tabs.setTabToolTip(len(self._charts) - 1, DRIVERS_TIP)
         self.tabs.setTabVisible(self._links_index, False)
         self.paths = PathsPanel()
         self._paths_index = self.tabs.addTab(self.paths, PATHS_TAB)
@@ -173,7 +200,10 @@ class ResultsPanel(QWidget):
         self.analysis, self._unit = analysis, unit
         self.summary.setText(analysis.summary)
         method = f"Method: {analysis.method} — {analysis.method_reason}."
-        method += f" Base estimate {analysis.base_estimate:,.0f} ({analysis.base_basis})."
+        base = numbers.money(
+            analysis.base_estimate, unit, numbers.decimals_for([analysis.total.mean])
+        )
+        method += f" Base estimate {base} ({analysis.base_basis})."
         self.method.setText(method)
         self.set_notices([*notices, dependence_text(analysis, unit)])
         self.repair.show_preview(None)
@@ -183,7 +213,8 @@ class ResultsPanel(QWidget):
         self.table.show()
         reasons = "".join(f"<li>{_escape(r)}</li>" for r in analysis.reasons)
         self.reasons.setText(
-            f"<b>Why the shortcut misses</b><ul style='margin-top:0; margin-left:-20px'>{reasons}</ul>"
+            f"<b>{reasons_heading(analysis)}</b>"
+            f"<ul style='margin-top:0; margin-left:-20px'>{reasons}</ul>"
             if reasons
             else ""
         )

@@ -68,7 +68,10 @@ class SettingsPanel(QWidget):
         self.tolerance.setDecimals(1)
         self.tolerance.setSingleStep(0.5)
         self.tolerance.setSuffix(" %")
-        self.tolerance.setToolTip("Gap within which the normal shortcut is said to hold")
+        self.tolerance.setToolTip(
+            "Tolerance for the verdict: the normal shortcut is said to hold at a level when its "
+            "gap from the total is within this share of the total"
+        )
         self.method = QComboBox(objectName="method")
         for key, label in METHOD_CHOICES:
             self.method.addItem(label, key)
@@ -93,7 +96,7 @@ class SettingsPanel(QWidget):
         form = QFormLayout(self)
         form.addRow("Levels (P):", self.levels)
         form.addRow("", self.levels_problem)
-        form.addRow("Shortcut holds within:", self.tolerance)
+        form.addRow("Verdict tolerance:", self.tolerance)
         form.addRow("Method:", self.method)
         form.addRow("Trials:", self.trials)
         form.addRow("Seed:", seed_row)

@@ -8,11 +8,13 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
+from charts import numbers
 from engine import Analysis, Estimate, LevelRow, LineItem, build_distribution
-from engine.shortcut.verdict import compact
 
 # Column kinds: money (in the estimate's unit), percent (a fraction, shown as %),
-# level (a confidence level in percent, shown as P80), number, text.
+# level (a confidence level in percent, shown as P80), probability (of occurrence, as few
+# digits as it has: 100%, 12.5%), coefficient (a correlation),
+# statistic (unitless, two decimals), number, text.
 Kind = str
 
 
@@ -33,24 +35,45 @@ class Table:
         return [c.name for c in self.columns]
 
 
+def money_decimals(table: Table) -> int:
+    """One number of decimals for every money cell of a table, from its largest figure, so
+    a gap reads with the same decimals as the total it is a gap of."""
+    return numbers.decimals_for(
+        value
+        for row in table.rows
+        for column, value in zip(table.columns, row, strict=True)
+        if column.kind == "money" and isinstance(value, int | float)
+    )
+
+
 def make_table(columns: list[Column], records: list[Any]) -> Table:
     return Table(columns, [[c.value(r) for c in columns] for r in records])
 
 
-def money_text(x: float, unit: str = "") -> str:
-    """Compact money for sentences: '310 k EUR', '8.39 working days'."""
-    return f"{compact(x)} {unit}".rstrip()
+def verdict_sentences(analysis: Analysis, unit: str = "") -> list[str]:
+    """One sentence a level, its sums in the level table's decimals."""
+    decimals = numbers.decimals_for(r.value for r in analysis.levels)
+    return [verdict_sentence(r, analysis.tolerance, unit, decimals) for r in analysis.levels]
 
 
-def verdict_sentence(row: LevelRow, tolerance: float, unit: str = "") -> str:
-    """E.g. 'the normal shortcut understates P90 by 4.1%, 310 k EUR'."""
-    size = f"{abs(row.gap_pct):.1f}%, {money_text(abs(row.gap), unit)}"
+def verdict_sentence(row: LevelRow, tolerance: float, unit: str = "", decimals: int = 0) -> str:
+    """E.g. 'the normal shortcut understates P90 by 4.1%, 310,442 EUR'."""
+    gap = numbers.money(abs(row.gap), unit, decimals)
+    size = f"{numbers.percent(abs(row.gap_pct) / 100)}, {gap}"
     if row.holds:
         return (
             f"the normal shortcut holds at P{row.level:g}: off by {size}, "
-            f"within the ±{100 * tolerance:g}% tolerance"
+            f"within the ±{numbers.probability(tolerance)} tolerance"
         )
     return f"the normal shortcut {row.verdict} P{row.level:g} by {size}"
+
+
+def reasons_heading(analysis: Analysis) -> str:
+    """The reasons explain a miss; where the shortcut holds everywhere they are still worth
+    knowing, but not as the cause of a failure."""
+    if all(r.holds for r in analysis.levels):
+        return "What shapes the total (the shortcut holds all the same)"
+    return "Why the shortcut misses"
 
 
 def _fraction(pct: float | None) -> float | None:
@@ -92,36 +115,26 @@ def level_table(analysis: Analysis) -> Table:
 
 
 def facts(analysis: Analysis, about: dict[str, Any]) -> list[tuple[str, Any, Kind]]:
-    """The summary's label / value pairs, in reading order."""
+    """The summary's label / value pairs, in reading order: plain meaning first, the
+    statistic's name after it."""
     diag = analysis.diagnostics
-    gap = diag.normal_gap
     rows: list[tuple[str, Any, Kind]] = [
         ("Base estimate", analysis.base_estimate, "money"),
         ("Basis of the base estimate", analysis.base_basis, "text"),
         ("Mean of the total", analysis.total.mean, "money"),
         ("Standard deviation of the total", analysis.total.sd, "money"),
-        ("Skewness of the total", diag.skewness, "number"),
-        ("Excess kurtosis of the total", diag.excess_kurtosis, "number"),
-        ("Kolmogorov distance, total vs normal", gap.distance, "number"),
-        ("  where it occurs (percentile of the total)", gap.at_level, "number"),
-        (
-            f"Berry–Esseen bound (C0 = {diag.berry_esseen_constant:g})",
-            diag.berry_esseen_bound,
-            "number",
-        ),
-        (
-            "  what the bound says",
-            _berry_esseen_note(diag.berry_esseen_bound, gap.distance),
-            "text",
-        ),
-        ("Cornish–Fisher", _cornish_fisher_note(analysis), "text"),
-        ("Method", analysis.method, "text"),
+        ("Lean of the total (skewness)", diag.skewness, "statistic"),
+        ("Weight of the tails (excess kurtosis)", diag.excess_kurtosis, "statistic"),
+        ("Largest gap between the S-curve and the normal curve", gap_text(analysis), "text"),
+        ("Theoretical guarantee (Berry–Esseen)", guarantee_text(analysis), "text"),
+        ("Skew-corrected shortcut (Cornish–Fisher)", _cornish_fisher_note(analysis), "text"),
+        ("Method", method_name(analysis), "text"),
         ("Why this method", analysis.method_reason, "text"),
     ]
     if analysis.method == "simulation":
         rows += [
-            ("Trials", analysis.trials, "number"),
-            ("Seed", analysis.seed, "number"),
+            ("Trials", numbers.count(analysis.trials), "text"),
+            ("Seed", str(analysis.seed), "text"),
             (
                 "Sampling",
                 "Latin hypercube" if analysis.sampling == "lhs" else "plain random",
@@ -130,16 +143,17 @@ def facts(analysis: Analysis, about: dict[str, Any]) -> list[tuple[str, Any, Kin
             ("Standard errors", "per level in the table (batch means over replicates)", "text"),
         ]
     else:
+        # Compact, not in the table's decimals: the error is far smaller than the total.
         rows.append(
             (
                 "Grid error (largest percentile change on halving the grid)",
-                analysis.grid_error,
-                "money",
+                numbers.compact(analysis.grid_error, about["unit"]),
+                "text",
             )
         )
     rows += [
-        ("Tolerance of the verdict", analysis.tolerance, "percent"),
-        ("Computed in (seconds)", analysis.compute_seconds, "number"),
+        ("Tolerance for the verdict", analysis.tolerance, "percent"),
+        ("Computed in", f"{analysis.compute_seconds:.2f} s", "text"),
         ("Date", about["created"], "text"),
         ("Input file", about["input_file"] or "(not from a file)", "text"),
         ("Input SHA-256", about["input_sha256"] or "(none)", "text"),
@@ -148,18 +162,31 @@ def facts(analysis: Analysis, about: dict[str, Any]) -> list[tuple[str, Any, Kin
     return rows
 
 
-def _berry_esseen_note(bound: float, measured: float) -> str:
-    """The guarantee beside the measurement; a bound of 1 guarantees nothing."""
-    if bound >= 1:
-        return "1 or more: no guarantee for this estimate (too few, too skewed or dominated)"
-    return f"{bound:.4f} (a guarantee; the measured distance is {measured:.4f})"
+def method_name(analysis: Analysis) -> str:
+    return "simulation" if analysis.method == "simulation" else "exact convolution"
 
 
-def _berry_esseen_note(bound: float, measured: float) -> str:
-    """The guarantee beside the measurement; a bound of 1 guarantees nothing."""
-    if bound >= 1:
-        return "nothing here: at 1 it allows any gap (too few, too skewed or dominated items)"
-    return f"the gap cannot exceed {bound:.4f}; the measured distance is {measured:.4f}"
+def gap_text(analysis: Analysis) -> str:
+    """'27 percentage points, at P66 (Kolmogorov distance)'."""
+    gap = analysis.diagnostics.normal_gap
+    return (
+        f"{numbers.statistic(100 * gap.distance, 1)} percentage points, "
+        f"at {numbers.level(round(gap.at_level))} (Kolmogorov distance)"
+    )
+
+
+def guarantee_text(analysis: Analysis) -> str:
+    """What the Berry–Esseen theorem promises about that gap; a bound of 1 or more promises
+    nothing, and correlated items are outside the theorem."""
+    diag = analysis.diagnostics
+    if not getattr(diag, "berry_esseen_applies", True):
+        return "none for correlated items (the theorem is about independent ones)"
+    if diag.berry_esseen_bound >= 1:
+        return "none for this estimate (too few, too skewed or too dominant items)"
+    return (
+        f"the gap cannot exceed {numbers.statistic(100 * diag.berry_esseen_bound, 1)} "
+        f"percentage points (C0 = {diag.berry_esseen_constant:g})"
+    )
 
 
 def _cornish_fisher_note(analysis: Analysis) -> str:
@@ -176,6 +203,16 @@ def discrete_text(values: tuple[tuple[float, float], ...]) -> str:
     return "; ".join(f"{v:g} @ {100 * w:g}%" for v, w in values)
 
 
+def discrete_shown(values: tuple[tuple[float, float], ...]) -> str:
+    """The same values for reading, with the digits typed: '480,000 @ 50%; 1,250,000 @ 35%'."""
+    return "; ".join(f"{v:,.15g} @ {numbers.probability(w)}" for v, w in values)
+
+
+def family_name(family: str) -> str:
+    """Families as the trade writes them: PERT is an acronym, the rest are plain words."""
+    return "PERT" if family == "pert" else family
+
+
 def item_table(estimate: Estimate) -> Table:
     def moment(item: LineItem, name: str) -> float:
         return getattr(build_distribution(item), name)
@@ -183,17 +220,17 @@ def item_table(estimate: Estimate) -> Table:
     columns = [
         Column("Item", "text", lambda i: i.name),
         Column("Group", "text", lambda i: i.group),
-        Column("Distribution", "text", lambda i: i.family),
+        Column("Distribution", "text", lambda i: family_name(i.family)),
         Column("Low", "money", lambda i: i.low),
         Column(
             "Most likely",
             "money",
-            lambda i: discrete_text(i.values) if i.family == "discrete" else i.most_likely,
+            lambda i: discrete_shown(i.values) if i.family == "discrete" else i.most_likely,
         ),
         Column("High", "money", lambda i: i.high),
         Column("Low %", "number", lambda i: i.low_pct),
         Column("High %", "number", lambda i: i.high_pct),
-        Column("Probability", "percent", lambda i: i.probability),
+        Column("Probability", "probability", lambda i: i.probability),
         Column("Mean", "money", lambda i: moment(i, "mean")),
         Column("SD", "money", lambda i: moment(i, "sd")),
     ]
@@ -205,7 +242,7 @@ def driver_table(analysis: Analysis) -> Table:
         Column("Item", "text", lambda d: d.name),
         Column("Group", "text", lambda d: d.group),
         Column("Share of variance", "percent", lambda d: d.variance_share),
-        Column("Share of skew", "percent", lambda d: d.skew_share),
+        Column("Share of skewness", "percent", lambda d: d.skew_share),
         Column("Mean", "money", lambda d: d.mean),
         Column("SD", "money", lambda d: d.sd),
     ]
@@ -234,25 +271,35 @@ def dependence_lines(dependence: Any) -> list[str]:
         lines.append(
             "The stated correlations did not form a valid (positive semi-definite) matrix; "
             f"the nearest valid one was used, with the accepted repair. Largest change: "
-            f"'{a}' with '{b}' from {old:.2f} to {new:.2f}."
+            f"'{a}' with '{b}' from {numbers.coefficient(old)} to {numbers.coefficient(new)}."
         )
     else:
         lines.append("The stated correlations form a valid matrix and were used as stated.")
+    lines.append(achieved_text(dependence))
+    return lines
+
+
+def achieved_text(dependence: Any) -> str:
+    """How closely the trials met the correlations used. A pair aimed at zero that came out
+    at zero is not news, so the worst pair is named only when it missed visibly."""
+    deviation = dependence.achieved_max_deviation
     text = (
         "Largest difference between the rank correlation achieved in the trials and the one "
-        f"used: {dependence.achieved_max_deviation:.3f}"
+        f"used: {numbers.statistic(deviation, 3)}"
     )
     worst = getattr(dependence, "worst_achieved", None)
-    if worst:
+    if worst and round(deviation, 2) > 0:
         a, b, aimed, got = worst
-        text += f" ('{a}' with '{b}': aimed at {aimed:.2f}, achieved {got:.2f})"
-    lines.append(text + ".")
-    return lines
+        text += (
+            f" ('{a}' with '{b}': aimed at {numbers.coefficient(aimed)}, "
+            f"achieved {numbers.coefficient(got)})"
+        )
+    return text + "."
 
 
 def matrix_table(names: list[str], matrix: Any) -> Table:
     columns = [Column("Item", "text", lambda r: r[0])] + [
-        Column(n, "number", lambda r, k=k: float(r[1][k])) for k, n in enumerate(names)
+        Column(n, "coefficient", lambda r, k=k: float(r[1][k])) for k, n in enumerate(names)
     ]
     return make_table(columns, list(zip(names, list(matrix), strict=True)))
 
@@ -278,8 +325,8 @@ def pair_table(dependence: Any) -> Table:
     columns = [
         Column("Item A", "text", lambda r: r[0]),
         Column("Item B", "text", lambda r: r[1]),
-        Column("Stated", "number", lambda r: r[2]),
-        Column("Used", "number", lambda r: r[3]),
-        Column("Achieved", "number", lambda r: r[4]),
+        Column("Stated", "coefficient", lambda r: r[2]),
+        Column("Used", "coefficient", lambda r: r[3]),
+        Column("Achieved", "coefficient", lambda r: r[4]),
     ]
     return make_table(columns, records)

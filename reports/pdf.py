@@ -5,12 +5,16 @@ process alike."""
 from __future__ import annotations
 
 import textwrap
+from collections.abc import Callable
 from typing import Any, BinaryIO
 
 import matplotlib
+from matplotlib.axes import Axes
 from matplotlib.backends.backend_pdf import PdfPages
 from matplotlib.figure import Figure
+from matplotlib.text import Text
 
+from charts import numbers
 from charts.drivers import draw_drivers
 from charts.gap import draw_gap_curve
 from charts.style import TEXT, display_text
@@ -18,12 +22,16 @@ from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
 from engine.allocation import Allocation
 from reports import content
+from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
 ITEMS_PER_PAGE = 40
 HEADER_FILL = "#dce7ec"
+FOOTER_SIZE = 6.5
+FOOTER_COLOUR = "#4b5563"
+CHART_HEIGHT = 4.0  # inches at most: the decision page's S-curve
 
 
 def _fit(text: str, inches: float, size: float) -> str:
@@ -32,20 +40,27 @@ def _fit(text: str, inches: float, size: float) -> str:
     return text if len(text) <= chars else text[: chars - 1] + "…"
 
 
-def cell_text(value: Any, kind: Kind) -> str:
+def cell_text(value: Any, kind: Kind, decimals: int = 0) -> str:
+    """`decimals` is for money, chosen once a column so a column reads alike."""
     if value is None:
         return ""
     if isinstance(value, str):
         return display_text(value)
     if kind == "money":
-        return f"{value:,.0f}" if abs(value) >= 100 else f"{value:,.2f}"
+        return numbers.money(value, decimals=decimals)
     if kind == "percent":
-        return f"{100 * value:.1f}%"
+        return numbers.percent(value)
     if kind == "level":
-        return f"P{value:g}"
+        return numbers.level(value)
+    if kind == "probability":
+        return numbers.probability(value)
+    if kind == "coefficient":
+        return numbers.coefficient(value)
+    if kind == "statistic":
+        return numbers.statistic(value)
     if isinstance(value, int):
-        return f"{value:,}"
-    return f"{value:.4g}"
+        return numbers.count(value)
+    return f"{value:,g}"
 
 
 class Page:
@@ -55,8 +70,21 @@ class Page:
         self.width, self.height = PAPER[paper]
         self.figure = Figure(figsize=(self.width, self.height))
         self.y = MARGIN
+        # The caution travels with every page, since pages are forwarded one at a time.
         self.figure.text(
-            MARGIN / self.width, 0.35 / self.height, footer, fontsize=7, color="#4b5563"
+            MARGIN / self.width,
+            0.47 / self.height,
+            CAUTION,
+            fontsize=FOOTER_SIZE,
+            fontstyle="italic",
+            color=FOOTER_COLOUR,
+        )
+        self.figure.text(
+            MARGIN / self.width,
+            0.33 / self.height,
+            footer,
+            fontsize=FOOTER_SIZE,
+            color=FOOTER_COLOUR,
         )
 
     @property
@@ -121,9 +149,10 @@ class Page:
         ax.axis("off")
         shares = widths or [1.0] * len(table.columns)
         inches = [self.usable * w / sum(shares) for w in shares]
+        decimals = content.money_decimals(table)
         text = [
             [
-                _fit(cell_text(v, c.kind), w, size)
+                _fit(cell_text(v, c.kind, decimals), w, size)
                 for c, v, w in zip(table.columns, row, inches, strict=True)
             ]
             for row in table.rows
@@ -158,6 +187,21 @@ class Page:
                     cell.PAD = 0.03
         self.y += height
 
+    def chart(self, height: float, draw: Callable[[Axes], object]) -> None:
+        """An axes `height` inches tall across the text width; room is left above it for
+        the title and legend, and below it for the tick and axis labels."""
+        top, bottom = self.y + 0.55, self.y + height - 0.45
+        ax = self.figure.add_axes(
+            (
+                (MARGIN + 0.55) / self.width,
+                1 - bottom / self.height,
+                (self.usable - 0.75) / self.width,
+                (bottom - top) / self.height,
+            )
+        )
+        draw(ax)
+        self.y += height
+
 
 class Flow:
     """Pages filled in reading order: a block that does not fit starts a new page."""
@@ -189,6 +233,9 @@ class Flow:
     def table(self, table: Table, size: float = 6.8, widths: list[float] | None = None) -> None:
         self._room_for(Page.table_height(table, size)).table(table, size, widths)
 
+    def chart(self, height: float, draw: Callable[[Axes], object]) -> None:
+        self._room_for(height).chart(height, draw)
+
     def gap(self, inches: float = 0.12) -> None:
         self.page.gap(inches)
 
@@ -202,11 +249,32 @@ def write_pdf(
     allocation: Allocation | None = None,
 ) -> int:
     """Write the report; returns the number of pages."""
+    pages = report_pages(estimate, analysis, about, paper, allocation)
+    metadata = {
+        "Title": f"Contingency report: {about['title']}",
+        "Creator": f"Rangefold {about['rangefold_version']}",
+    }
+    with matplotlib.rc_context({"pdf.fonttype": 42}), PdfPages(target, metadata=metadata) as pdf:
+        for page in pages:
+            pdf.savefig(page.figure)
+    return len(pages)
+
+
+def report_pages(
+    estimate: Estimate,
+    analysis: Analysis,
+    about: dict[str, Any],
+    paper: str = "a4",
+    allocation: Allocation | None = None,
+) -> list[Page]:
+    """The pages in reading order, numbered: the decision first, then the evidence, the
+    charts, the items and the correlation."""
     if paper not in PAPER:
         raise ValueError(f"paper {paper!r} is unknown; use one of {', '.join(PAPER)}.")
     footer = f"Rangefold {about['rangefold_version']} - {about['title']} - {about['created']}"
     pages = [
-        *_summary_pages(analysis, about, paper, footer),
+        *_decision_pages(analysis, about, paper, footer),
+        *_evidence_pages(analysis, about, paper, footer),
         _chart_page(analysis, about, paper, footer),
     ]
     if getattr(analysis, "paths", None) is not None:
@@ -221,58 +289,77 @@ def write_pdf(
     dependence = content.dependence_of(analysis)
     if dependence is not None:
         pages.append(_dependence_page(dependence, paper, footer))
-    metadata = {
-        "Title": f"Contingency report: {about['title']}",
-        "Creator": f"Rangefold {about['rangefold_version']}",
-    }
-    with matplotlib.rc_context({"pdf.fonttype": 42}), PdfPages(target, metadata=metadata) as pdf:
-        for k, page in enumerate(pages, start=1):
-            page.figure.text(
-                1 - MARGIN / page.width,
-                0.35 / page.height,
-                f"page {k} of {len(pages)}",
-                fontsize=7,
-                ha="right",
-                color="#4b5563",
-            )
-            pdf.savefig(page.figure)
-    return len(pages)
+    for k, page in enumerate(pages, start=1):
+        page.figure.text(
+            1 - MARGIN / page.width,
+            0.33 / page.height,
+            f"page {k} of {len(pages)}",
+            fontsize=FOOTER_SIZE,
+            ha="right",
+            color=FOOTER_COLOUR,
+        )
+    return pages
 
 
-def _summary_pages(
+def page_text(page: Page) -> str:
+    """Every word on a page, tables, chart titles and legends included, in drawing order;
+    wrapped lines joined by spaces, so a sentence reads as one."""
+    texts = [t for t in page.figure.findobj(Text) if t.get_visible() and t.get_text()]
+    for ax in page.figure.axes:
+        for table in ax.tables:
+            texts += [cell.get_text() for _, cell in sorted(table.get_celld().items())]
+    return " ".join(" ".join(t.get_text() for t in texts).split())
+
+
+def _decision_pages(
     analysis: Analysis, about: dict[str, Any], paper: str, footer: str
 ) -> list[Page]:
+    """What a project board decides on: the levels and contingency, the verdict, the
+    reasons in plain words and the S-curve; the caution under the title."""
     page = Flow(paper, footer)
     unit = about["unit"]
     page.text("Contingency report", size=16, weight="bold")
     page.text(about["title"] + (f"  (amounts in {unit})" if unit else ""), size=11)
+    page.text(about["caution"], size=8.5, style="italic")
     page.gap()
     page.text(analysis.summary, size=9.5, weight="bold")
+    page.gap(0.06)
+    page.text(NORMAL_SHORTCUT_GLOSS, size=8)
     page.gap()
-    main, beside = _split_levels(content.level_table(analysis))
+    main, _ = _split_levels(content.level_table(analysis))
     page.table(main, size=7.2, widths=[0.6, 1.2, 1.1, 0.9, 1.2, 1.1, 0.8, 1.0])
-    page.gap(0.08)
-    page.table(beside, size=7.2)
     page.gap(0.15)
     page.text("Verdict per level", size=10, weight="bold")
-    for level in analysis.levels:
-        page.text(
-            "- " + content.verdict_sentence(level, analysis.tolerance, unit) + ".", indent=0.1
-        )
+    for sentence in content.verdict_sentences(analysis, unit):
+        page.text("- " + sentence + ".", indent=0.1)
     page.gap()
-    page.text("Why", size=10, weight="bold")
+    page.text(content.reasons_heading(analysis), size=10, weight="bold")
     for reason in analysis.reasons or ["no skew driver, dominant item or risk event stands out"]:
         page.text("- " + reason + ".", indent=0.1)
     page.gap()
-    page.text("Evidence and method", size=10, weight="bold")
+    height = min(CHART_HEIGHT, max(page.page.room, 2.6))
+    page.chart(height, lambda ax: draw_s_curve(ax, analysis, unit))
+    return page.pages
+
+
+def _evidence_pages(
+    analysis: Analysis, about: dict[str, Any], paper: str, footer: str
+) -> list[Page]:
+    """For the analyst: the other quick methods beside the total, and how it was computed."""
+    page = Flow(paper, footer)
+    unit = about["unit"]
+    page.text("Evidence and method", size=14, weight="bold")
+    page.gap()
+    page.text("Other quick methods beside the total", size=10, weight="bold")
+    _, beside = _split_levels(content.level_table(analysis))
+    page.table(beside, size=7.2)
+    page.gap(0.2)
+    decimals = numbers.decimals_for([analysis.total.mean, analysis.total.sd])
     for label, value, kind in content.facts(analysis, about):
-        text = cell_text(value, kind)
+        text = cell_text(value, kind, decimals)
         if kind == "money" and unit:
             text += f" {unit}"
-        nested = 0.2 if label.startswith(" ") else 0.0
-        page.text(f"{label.strip()}: {text}", size=8, indent=0.1 + nested)
-    page.gap(0.15)
-    page.text(about["caution"], size=8.5, style="italic")
+        page.text(f"{label}: {text}", size=8.5, indent=0.1)
     return page.pages
 
 
@@ -280,15 +367,12 @@ def _chart_page(analysis: Analysis, about: dict[str, Any], paper: str, footer: s
     page = Page(paper, footer)
     unit = about["unit"]
     page.text("Charts", size=14, weight="bold")
-    top = 1 - (page.y + 0.3) / page.height
-    grid = page.figure.add_gridspec(
-        3, 2, left=0.1, right=0.95, top=top, bottom=0.08, hspace=0.5, wspace=0.3
-    )
+    top = 1 - (page.y + 0.5) / page.height
+    grid = page.figure.add_gridspec(3, 1, left=0.12, right=0.95, top=top, bottom=0.12, hspace=0.75)
     draw_density(page.figure.add_subplot(grid[0, 0]), analysis, unit)
-    draw_s_curve(page.figure.add_subplot(grid[0, 1]), analysis, unit)
-    draw_gap_curve(page.figure.add_subplot(grid[1, :]), analysis, unit)
+    draw_gap_curve(page.figure.add_subplot(grid[1, 0]), analysis, unit)
     # The drivers get their own left edge: item names need room that numbers do not.
-    names = page.figure.add_gridspec(3, 1, left=0.38, right=0.95, top=top, bottom=0.08, hspace=0.5)
+    names = page.figure.add_gridspec(3, 1, left=0.38, right=0.95, top=top, bottom=0.12, hspace=0.75)
     draw_drivers(page.figure.add_subplot(names[2, 0]), analysis)
     return page
 

@@ -10,7 +10,7 @@ from pathlib import Path
 from typing import Any
 
 from engine import Estimate, Settings
-from reports.caution import CAUTION
+from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 
 PYPROJECT = Path(__file__).resolve().parents[1] / "pyproject.toml"
 
@@ -55,6 +55,7 @@ def provenance(
         "import_summary": _jsonable_summary(estimate.summary),
         "settings": settings.to_dict(),
         "caution": CAUTION,
+        "normal_shortcut": NORMAL_SHORTCUT_GLOSS,
         "rangefold_version": rangefold_version(),
     }
 

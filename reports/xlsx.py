@@ -17,16 +17,26 @@ from engine import Analysis, Estimate
 from engine.allocation import Allocation
 from fileio.cells import FORMULA_STARTS
 from reports import content
+from reports.caution import NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
 
 FORMATS: dict[Kind, str] = {
     "money": "#,##0",
     "percent": "0.0%",
     "level": '"P"0',
-    "number": "0.000",
+    "probability": "0.0%",
+    "coefficient": "0.00",
+    "statistic": "0.00",
+    "number": "General",
 }
 HEADER_FILL = PatternFill("solid", fgColor="DCE7EC")
+FACT_VALUE_COLUMN = 5  # past the longest label, which runs over the empty cells beside it
 BOLD = Font(bold=True)
+
+
+def money_format(decimals: int) -> str:
+    """'#,##0' or '#,##0.0': one number of decimals a money column, as in the PDF."""
+    return FORMATS["money"] + ("." + "0" * decimals if decimals else "")
 
 
 def put(sheet: Worksheet, row: int, column: int, value: Any, kind: Kind = "text") -> Cell:
@@ -56,9 +66,12 @@ def put_table(sheet: Worksheet, top: int, table: Table, left: int = 1) -> int:
         cell.font = BOLD
         cell.fill = HEADER_FILL
         cell.alignment = Alignment(wrap_text=True, vertical="top")
+    decimals = content.money_decimals(table)
     for r, row in enumerate(table.rows, start=top + 1):
         for k, (column, value) in enumerate(zip(table.columns, row, strict=True)):
-            put(sheet, r, left + k, value, column.kind)
+            cell = put(sheet, r, left + k, value, column.kind)
+            if column.kind == "money" and decimals and isinstance(value, int | float):
+                cell.number_format = money_format(decimals)
     return top + 1 + len(table.rows)
 
 
@@ -94,26 +107,24 @@ def write_xlsx(
 def _summary_sheet(sheet: Worksheet, analysis: Analysis, about: dict[str, Any]) -> None:
     put(sheet, 1, 1, "Contingency report").font = Font(bold=True, size=14)
     put(sheet, 2, 1, about["title"]).font = Font(bold=True, size=12)
-    if about["unit"]:
-        put(sheet, 3, 1, f"Amounts in {about['unit']}")
+    put(sheet, 3, 1, about["caution"]).font = Font(italic=True)
+    amounts = f"Amounts in {about['unit']}. " if about["unit"] else ""
+    put(sheet, 4, 1, amounts + NORMAL_SHORTCUT_GLOSS)
     row = put_table(sheet, 5, content.level_table(analysis)) + 1
     put(sheet, row, 1, "Verdict").font = BOLD
-    for level in analysis.levels:
+    for text in content.verdict_sentences(analysis, about["unit"]):
         row += 1
-        text = content.verdict_sentence(level, analysis.tolerance, about["unit"])
         put(sheet, row, 1, text[0].upper() + text[1:] + ".")
     row += 2
-    put(sheet, row, 1, "Why").font = BOLD
+    put(sheet, row, 1, content.reasons_heading(analysis)).font = BOLD
     for reason in analysis.reasons or ["no skew driver, dominant item or risk event stands out"]:
         row += 1
         put(sheet, row, 1, reason[0].upper() + reason[1:] + ".")
     row += 2
     for label, value, kind in content.facts(analysis, about):
         put(sheet, row, 1, label)
-        put(sheet, row, 3, value, kind)
+        put(sheet, row, FACT_VALUE_COLUMN, value, kind)
         row += 1
-    row += 1
-    put(sheet, row, 1, about["caution"]).font = Font(italic=True)
     sheet.column_dimensions["A"].width = 16
     sheet.column_dimensions["B"].width = 16
     for col in range(3, 15):

@@ -108,7 +108,7 @@ def test_report_without_output_prints_a_summary(capsys):
 def test_check_good_file(good_csv, capsys):
     assert main(["check", str(good_csv)]) == 0
     captured = capsys.readouterr()
-    assert "3 line item(s)" in captured.out and "no problems found" in captured.out
+    assert "3 line items" in captured.out and "no problems found" in captured.out
     assert captured.err == ""
 
 

@@ -134,8 +134,8 @@ def test_auto_switches_to_simulation_and_says_so():
     estimate = _correlated_normals()
     analysis = analyze(estimate, trials=4000, seed=1)
     assert analysis.method == "simulation"
-    assert "3 pair(s) of items are correlated" in analysis.method_reason
-    assert "Iman-Conover" in analysis.method_reason
+    assert "3 pairs of items are correlated" in analysis.method_reason
+    assert "Iman–Conover" in analysis.method_reason
     with pytest.raises(InputError) as refused:
         analyze(estimate, method="exact")
     assert "use auto or simulation" in refused.value.problems[0].fix

@@ -301,6 +301,6 @@ def test_a_pair_on_a_left_out_row_is_left_out_with_it_and_said(make_window, qtbo
     )
     window = make_window()
     open_estimate(window, qtbot, estimate, simulation())
-    assert "1 row with 1 correlation pair(s) naming them left out" in window.left_out.text()
+    assert "1 row with 1 correlation pair naming them left out" in window.left_out.text()
     assert window.last_outcome.analysis.dependence is None  # nothing left to correlate
     assert row_at(window, 80).value == pytest.approx(80.0, rel=1e-3)

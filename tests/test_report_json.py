@@ -36,6 +36,7 @@ def test_json_has_analysis_and_provenance(tmp_path):
     assert report["input_file"] == "estimate.csv"
     assert report["input_sha256"] == hashlib.sha256(source.read_bytes()).hexdigest()
     assert report["caution"] == CAUTION
+    assert "add the items' means and variances" in report["normal_shortcut"]
     assert report["settings"]["levels"] == [50.0, 90.0]
     assert report["rangefold_version"] == rangefold_version() != "unknown"
     assert "T" in report["created"]

@@ -31,7 +31,7 @@ def test_a4_summary_charts_items(tmp_path):
     analysis = analyze(estimate, method="exact")
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(unit="EUR"))
     boxes = pages_of(path.read_bytes())
-    assert len(boxes) == 5  # summary, charts, where the contingency sits (2), items
+    assert len(boxes) == 6  # decision, evidence, charts, where the contingency sits (2), items
     assert all(b == pytest.approx(A4) for b in boxes)
 
 
@@ -40,7 +40,7 @@ def test_letter_and_items_over_several_pages(tmp_path):
     analysis = analyze(estimate, method="exact")
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(), paper="letter")
     boxes = pages_of(path.read_bytes())
-    assert len(boxes) == 6  # summary, charts, allocation (2), two item pages
+    assert len(boxes) == 7  # decision, evidence, charts, allocation (2), two item pages
     assert all(b == pytest.approx(LETTER) for b in boxes)
 
 
@@ -49,7 +49,7 @@ def test_simulation_report_and_embedded_text(tmp_path):
     analysis = analyze(estimate, method="simulation", trials=10_000, seed=3)
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(method="simulation"))
     data = path.read_bytes()
-    assert len(pages_of(data)) == 4  # summary, charts, allocation, items
+    assert len(pages_of(data)) == 5  # decision, evidence, charts, allocation, items
     assert b"/FontFile2" in data  # TrueType embedded (pdf.fonttype 42): text stays text
 
 
@@ -64,7 +64,8 @@ def test_correlated_items_add_a_correlation_page(tmp_path):
     estimate = correlated_normals(0.5)
     analysis = analyze(estimate, trials=10_000, seed=5)
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings())
-    assert len(pages_of(path.read_bytes())) == 5  # ... allocation (2), items, correlation
+    # decision, evidence, charts, allocation, items, correlation
+    assert len(pages_of(path.read_bytes())) == 6
 
 
 def test_a_long_summary_continues_on_a_second_page(tmp_path):
@@ -72,4 +73,6 @@ def test_a_long_summary_continues_on_a_second_page(tmp_path):
     levels = tuple(float(lv) for lv in range(5, 100, 5))  # 19 levels: two tables of 19 rows
     analysis = analyze(estimate, method="exact", levels=levels)
     path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings(levels=levels))
-    assert len(pages_of(path.read_bytes())) == 5  # summary (2), charts, allocation, items
+    # decision over two pages (19 levels, 19 verdicts, the S-curve), evidence, charts,
+    # allocation, items
+    assert len(pages_of(path.read_bytes())) == 6

@@ -56,7 +56,8 @@ def test_numbers_are_numbers_with_formats(mixed_report):
     for k, row in enumerate(analysis.levels):
         level, total, contingency, share = (summary.cell(row=6 + k, column=c) for c in range(1, 5))
         assert level.value == row.level and level.number_format == '"P"0'
-        assert total.value == pytest.approx(row.value) and total.number_format == "#,##0"
+        # Totals near 500: four significant figures, one decimal (reports.content.money_decimals).
+        assert total.value == pytest.approx(row.value) and total.number_format == "#,##0.0"
         assert contingency.value == pytest.approx(row.value - analysis.base_estimate)
         assert share.value == pytest.approx(row.contingency_pct / 100)
         assert share.number_format == "0.0%"

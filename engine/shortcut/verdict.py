@@ -32,13 +32,21 @@ def compact(x: float) -> str:
     return f"{x:.3g}"
 
 
+def count(n: int, noun: str = "", plural: str = "") -> str:
+    """'1,999,000 pairs', '1 pair': the noun agrees with the number."""
+    text = f"{n:,}"
+    if not noun:
+        return text
+    return f"{text} {noun if n == 1 else plural or noun + 's'}"
+
+
 def reasons_for(
     diag: Diagnostics, drivers: Sequence[ItemDriver], dependence: Dependence | None = None
 ) -> list[str]:
     reasons: list[str] = [] if dependence is None else dependence_reasons(dependence)
     if diag.uncertain_count < FEW_ITEMS:
         reasons.append(
-            f"only {diag.uncertain_count} uncertain item(s): too few for the central limit "
+            f"only {count(diag.uncertain_count, 'uncertain item')}: too few for the central limit "
             "theorem to make the total normal"
         )
     if diag.largest_variance_share >= DOMINANT_SHARE:
@@ -49,9 +57,14 @@ def reasons_for(
     rare = [d for d in drivers if d.probability < RARE_EVENT]
     if diag.risk_event_count:
         share = 100 * diag.risk_event_variance_share
-        text = f"{diag.risk_event_count} risk event(s) carry {share:.0f}% of the variance"
+        events = count(diag.risk_event_count, "risk event")
+        carry = "carries" if diag.risk_event_count == 1 else "carry"
+        text = f"{events} {carry} {share:.0f}% of the variance"
         if rare:
-            text += f"; {len(rare)} of them rare (below {RARE_EVENT:.0%} likely), which lengthens the right tail"
+            which = "it is" if diag.risk_event_count == 1 else f"{len(rare)} of them"
+            text += (
+                f"; {which} rare (below {RARE_EVENT:.0%} likely), which lengthens the right tail"
+            )
         if share >= 20 or rare:
             reasons.append(text)
     if abs(diag.skewness) >= NOTABLE_SKEW:
@@ -103,7 +116,7 @@ def dependence_reasons(dependence: Dependence) -> list[str]:
 
 def summary_sentence(rows: Sequence[LevelRow], reasons: Sequence[str]) -> str:
     """E.g. 'The normal shortcut holds at P50 and P80; understates P90 by 3.9% (310 k):
-    3 risk event(s) carry 45% of the variance.'"""
+    3 risk events carry 45% of the variance.'"""
     holds = [r for r in rows if r.holds]
     fails = [r for r in rows if not r.holds]
     parts = []
