@@ -4,6 +4,7 @@ guide (issue 16)."""
 from __future__ import annotations
 
 import json
+import re
 
 import pytest
 
@@ -48,7 +49,7 @@ def test_terminal_summary_uses_the_unit_and_explains_the_shortcut(csv_file, caps
     # Thousands separators and one number of decimals in the level table.
     # One number of decimals for every figure of the level table (durations near 300 days:
     # one decimal, charts.numbers.decimals_for).
-    rows = [line.split() for line in printed.splitlines() if line.strip().startswith("P")]
+    rows = [line.split() for line in printed.splitlines() if re.match(r"\s*P\d+\s", line)]
     assert rows and all(len(figure.split(".")[1]) == 1 for row in rows for figure in row[1:4])
 
 
