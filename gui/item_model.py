@@ -180,6 +180,8 @@ class ItemTableModel(QAbstractTableModel):
                 return "\n".join(messages)
             if column == "Probability" and item.is_risk_event:
                 return "Risk event: costs nothing when it does not occur."
+            if column == "Item":
+                return source_tooltip(item)
             return None
         if role == Qt.ItemDataRole.BackgroundRole:
             if column in self.check(row).by_column:
@@ -228,8 +230,22 @@ def item_from_text(cells: dict[str, str], previous: LineItem | None = None) -> L
     """A row of cell texts to an item with the importer's validation (fileio.rows)."""
     from fileio.rows import item_from_cells
 
-    row = previous.row if previous is not None else None
-    return item_from_cells(cells, row, None)
+    if previous is None:
+        return item_from_cells(cells, None, None)
+    # The source and the notes stay with the item through edits.
+    edited = item_from_cells(cells, previous.row, previous.sheet)
+    return edited.with_changes(notes=dict(previous.notes), paths=previous.paths)
+
+
+def source_tooltip(item: LineItem) -> str | None:
+    """Where the item was read from and the notes kept from the columns not mapped."""
+    lines = []
+    if item.row is not None:
+        lines.append(
+            f"From {'sheet ' + repr(item.sheet) + ', ' if item.sheet else ''}row {item.row}"
+        )
+    lines += [f"{header}: {text}" for header, text in item.notes.items()]
+    return "\n".join(lines) or None
 
 
 def _contiguous(rows: list[int]) -> bool:
