@@ -95,7 +95,7 @@ def estimate_from_table(
     read_problems: list[Problem] = list(table.problems)
     heading = ""
     sums = SectionSums()
-    unit = _unit(header.mapping) or _unit_in_title_block(grid[: header.index])
+    unit = _unit(header) or _unit_in_title_block(grid[: header.index])
     currency = stated_currency(unit)
     read_problems += _duplicate_problems(table, header, mapping)
     for index in range(header.index + 1, last + 1):
@@ -367,10 +367,14 @@ def _title(grid: list[list[str]], header_index: int) -> str:
     return ""
 
 
-def _unit(mapping: dict[str, str]) -> str:
-    """A unit in an amount header's brackets: `Low (EUR)`, `Most likely [days]`."""
+def _unit(header: HeaderRow) -> str:
+    """A unit in an amount header's brackets: `Low (EUR)`, `Most likely [days]`; not the
+    column letter that tells two same-named headers apart (`High (E)`)."""
     for column in AMOUNT_COLUMNS:
-        found = re.search(r"[(\[]\s*([^()\[\]]+?)\s*[)\]]", mapping.get(column, ""))
-        if found and header_percentile(found.group(1)) is None:
+        name = header.mapping.get(column, "")
+        found = re.search(r"[(\[]\s*([^()\[\]]+?)\s*[)\]]", name)
+        if not found or header_percentile(found.group(1)) is not None:
+            continue
+        if found.group(1) != column_letter(header.headers.index(name)):
             return found.group(1)
     return ""

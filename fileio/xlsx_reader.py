@@ -101,11 +101,12 @@ def read_workbook(path: Path, mapping: dict[str, str] | None = None) -> Workbook
             if not any(any(row) for row in top):
                 sheets.append(SheetRead(name, hidden, "empty" if not top else "no header"))
                 continue
+            words = name.strip().lower() in _NOT_LINE_ITEMS
             mapped = bool(mapping) and find_header(top, mapping) is not None
             if not mapped and find_header(top) is None:
-                sheets.append(SheetRead(name, hidden, "no header"))
+                sheets.append(SheetRead(name, hidden, "words" if words else "no header"))
                 continue
-            kind = "words" if name.strip().lower() in _NOT_LINE_ITEMS else "items"
+            kind = "words" if words else "items"
             table = _table(ws, _sheet(formula_book, name, path), path)
             sheets.append(SheetRead(name, hidden, kind, table, mapped))
     return WorkbookRead(sheets, spec, problems)

@@ -1,0 +1,416 @@
+"""Estimators' workbooks and CSV files read as the estimator means them.
+
+Subtotals are never items (by label, by formula with or without a saved result, by arithmetic
+to confirm), several sheets combine, chart and empty sheets are skipped and said, a CSV quote
+that never closes does not swallow the rows after it, and columns not mapped stay with the
+items as notes. Every file is built here; expected totals are the typed numbers' closed-form
+means: triangular (a + m + b) / 3 (Johnson, Kotz & Balakrishnan, Continuous Univariate
+Distributions vol. 2, ch. 26), a risk event p times its impact's mean.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import zipfile
+from pathlib import Path
+
+import pytest
+from openpyxl import Workbook, load_workbook
+from openpyxl.chart import BarChart, Reference
+
+from cli.main import main
+from engine import analyze
+from fileio.project import load_project, save_project
+from fileio.readers import read_estimate
+from reports import write_report
+
+PLAN_ITEMS = [  # (row, name, low, most likely, high, basis)
+    (6, "Excavation and disposal", 900_000, 1_000_000, 1_300_000, "rock allowance"),
+    (7, "Piling", 2_400_000, 2_650_000, 3_100_000, "quote 17"),
+    (10, "Frame", 3_000_000, 3_300_000, 3_900_000, None),
+    (11, "Envelope", 3_200_000, 3_650_000, 4_200_000, "cost plan rates"),
+]
+REGISTER = [  # (name, probability, low, most likely, high, owner)
+    ("Flooded excavation", 0.20, 100_000, 200_000, 500_000, "Site lead"),
+    ("Steel price rise", 0.35, 150_000, 300_000, 600_000, "Cost manager"),
+]
+
+
+def triangular_mean(low: float, mode: float, high: float) -> float:
+    return (low + mode + high) / 3  # Johnson, Kotz & Balakrishnan vol. 2, ch. 26
+
+
+def add_cached_values(path: Path, sheet_number: int, results: dict[str, float]) -> None:
+    """Give formula cells the saved results a spreadsheet program writes (openpyxl writes
+    none: `<v/>`), so the file reads as one saved by hand."""
+    with zipfile.ZipFile(path) as src:
+        parts = [(info, src.read(info)) for info in src.infolist()]
+    name = f"xl/worksheets/sheet{sheet_number}.xml"
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info, data in parts:
+            if info.filename == name:
+                xml = data.decode()
+                for cell, value in results.items():
+                    xml, count = re.subn(
+                        rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)<v\s*/>', rf"\g<1><v>{value:g}</v>", xml
+                    )
+                    assert count == 1, cell
+                data = xml.encode()
+            dst.writestr(info, data)
+
+
+@pytest.fixture
+def cost_plan(tmp_path: Path) -> Path:
+    """Title block, sections with a typed subtotal, a formula subtotal (saved results) and a
+    carried-forward formula, a Basis column, a risk register and a notes sheet."""
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Cost plan"
+    ws["A1"] = "Harbour depot extension - cost plan (USD)"
+    ws["A2"] = "Prepared for the project board"
+    ws.append([])
+    ws.append(["Ref", "Description", "Low", "Most likely", "High", "Basis"])
+    ws.append([None, "Groundworks"])
+    for row, name, low, ml, high, basis in PLAN_ITEMS[:2]:
+        ws.append([f"1.{row - 5}", name, low, ml, high, basis])
+    ws.append([None, "Subtotal groundworks", None, "3,650,000", None])
+    ws.append([None, "Building"])
+    for row, name, low, ml, high, basis in PLAN_ITEMS[2:]:
+        ws.append([f"2.{row - 9}", name, low, ml, high, basis])
+    ws.append([None, "Total building", "=SUM(C10:C11)", "=SUM(D10:D11)", "=SUM(E10:E11)"])
+    ws.append([None, "Carried forward", None, "=D8+D12"])
+    register = wb.create_sheet("Risk register")
+    register.append(["Risk ID", "Risk", "Probability", "Low", "Most likely", "High", "Owner"])
+    for k, (name, p, low, ml, high, owner) in enumerate(REGISTER, start=1):
+        register.append([f"R{k}", name, p, low, ml, high, owner])
+        register.cell(row=k + 1, column=3).number_format = "0%"
+    wb.create_sheet("Notes").append(["Rates at second quarter prices."])
+    path = tmp_path / "depot.xlsx"
+    wb.save(path)
+    add_cached_values(
+        path, 1, {"C12": 6_200_000, "D12": 6_950_000, "E12": 8_100_000, "D13": 10_600_000}
+    )
+    return path
+
+
+def run(argv: list[str], capsys) -> tuple[int, str, str]:
+    code = main(argv)
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_report_total_is_the_sum_of_the_real_items(cost_plan: Path, capsys) -> None:
+    """The issue's acceptance case: subtotals left out, the register added."""
+    code, out, _ = run(["report", str(cost_plan), "--sheet", "all", "--json"], capsys)
+    assert code == 0
+    data = json.loads(out)
+    expected = sum(triangular_mean(lo, ml, hi) for _, _, lo, ml, hi, _ in PLAN_ITEMS)
+    expected += sum(p * triangular_mean(lo, ml, hi) for _, p, lo, ml, hi, _ in REGISTER)
+    assert data["total"]["mean"] == pytest.approx(expected, rel=1e-9)
+    items = data["report"]["items"]
+    assert [(i["sheet"], i["row"]) for i in items] == [
+        *(("Cost plan", r[0]) for r in PLAN_ITEMS),
+        ("Risk register", 2),
+        ("Risk register", 3),
+    ]
+    assert items[0]["notes"] == {"Ref": "1.1", "Basis": "rock allowance"}
+    assert items[-1]["notes"] == {"Risk ID": "R2", "Owner": "Cost manager"}
+    skipped = data["report"]["import_summary"]["rows_skipped"]
+    assert {(s["sheet"], s["row"]) for s in skipped if s.get("subtotal")} == {
+        ("Cost plan", 8),
+        ("Cost plan", 12),
+        ("Cost plan", 13),
+    }
+
+
+def test_the_default_reads_the_plan_and_its_register(cost_plan: Path) -> None:
+    estimate = read_estimate(cost_plan)
+    assert [s["name"] for s in estimate.summary["sheets_read"]] == ["Cost plan", "Risk register"]
+    assert len(estimate.items) == 6 and estimate.problems == []
+    assert estimate.unit == "USD"
+
+
+def test_check_lists_every_row_sheet_and_column_not_read(cost_plan: Path, capsys) -> None:
+    code, out, err = run(["check", str(cost_plan)], capsys)
+    assert code == 0, err
+    assert (
+        "sheets combined: 'Cost plan' (4 items), 'Risk register' (2 items, a risk register)" in out
+    )
+    assert "row 8 skipped: subtotal row 'Subtotal groundworks' (its label says" in out
+    assert "row 12 skipped: subtotal row 'Total building': cell C12 holds =SUM(C10:C11)" in out
+    assert "row 13 skipped: subtotal row 'Carried forward' (its label says" in out
+    assert "sheet 'Notes' not read: notes or instructions (by its name)" in out
+    assert "columns not mapped in sheet 'Cost plan', kept as notes on each item: Ref, Basis" in out
+    assert "in sheet 'Risk register', kept as notes on each item: Risk ID, Owner" in out
+
+
+@pytest.mark.parametrize(
+    "label",
+    [
+        "Subtotal",
+        "Sub-total civils",
+        "SUB TOTAL",
+        "Section total",
+        "Section Total: building",
+        "Groundworks total",
+        "Grand total",
+        "Total",
+        "Total for section 2",
+        "Carried forward",
+        "Brought fwd from page 1",
+        "c/f",
+        "Sum",
+    ],
+)
+def test_totals_by_label_in_any_text_column(label: str, tmp_path: Path) -> None:
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["Ref", "Item", "Low", "Most likely", "High"])
+    ws.append(["1", "Excavation", 10, 12, 20])
+    ws.append(["2", "Backfill", 5, 6, 9])
+    ws.append([None, label, 15, 18, 29])
+    ws.append([label, None, 15, 18, 29])  # the label left of an empty Item cell
+    path = tmp_path / "labels.xlsx"
+    wb.save(path)
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["Excavation", "Backfill"]
+    assert [s["row"] for s in estimate.summary["rows_skipped"] if s.get("subtotal")] == [4, 5]
+
+
+def test_names_that_only_look_like_totals_stay_items(tmp_path: Path) -> None:
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["Item", "Low", "Most likely", "High", "Notes"])
+    ws.append(["Excavation", 10, 12, 20, "total of three pits"])
+    ws.append(["Total station survey", 1, 2, 3, None])  # an instrument
+    ws.append(["Preliminaries (lump sum)", 30, 35, 45, None])
+    ws.append(["Totalising flow meters", 4, 5, 7, None])
+    path = tmp_path / "names.xlsx"
+    wb.save(path)
+    estimate = read_estimate(path)
+    assert len(estimate.items) == 4 and estimate.problems == []
+
+
+def test_formula_subtotal_without_a_label_and_without_a_result(tmp_path: Path) -> None:
+    """A formula adding other rows is a subtotal whether or not a result was saved; a formula
+    within its own row (a High as a markup on Most likely) is an item's value."""
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["Item", "Low", "Most likely", "High"])
+    ws.append(["Excavation", 10, 12, "=C2*1.5"])
+    ws.append(["Backfill", 5, 6, 9])
+    ws.append(["Groundworks", "=B2+B3", "=SUM(C2:C3)", "=SUBTOTAL(9,D2:D3)"])
+    path = tmp_path / "formulas.xlsx"
+    wb.save(path)
+    add_cached_values(path, 1, {"D2": 18, "B4": 15, "C4": 18, "D4": 27})
+    estimate = read_estimate(path)
+    assert [(i.name, i.high) for i in estimate.items] == [("Excavation", 18), ("Backfill", 9)]
+    (skipped,) = estimate.summary["rows_skipped"]
+    assert skipped["row"] == 4 and "cell B4 holds =B2+B3, adding rows 2–3" in skipped["reason"]
+    wb.save(path)  # the same formulas, no saved results at all
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["Excavation", "Backfill"]
+    assert "no saved result" in str(estimate.problems[0])  # the markup's, not the subtotal's
+    assert len(estimate.problems) == 1
+
+
+def arithmetic_workbook(path: Path, distribution: str | None = None) -> Path:
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["Item", "Distribution", "Low", "Most likely", "High"])
+    ws.append(["Frame", "triangular", 3_000_000, 3_302_500, 3_900_000])
+    ws.append(["Envelope", "triangular", 3_200_000, 3_648_900, 4_200_000])
+    # 6,951,400 typed to the nearest 10,000: a subtotal by its arithmetic alone.
+    ws.append(["Building works", distribution, None, "6,950,000", None])
+    ws.append(["Design fee", "fixed", None, 410_000, None])
+    wb.save(path)
+    return path
+
+
+def test_a_subtotal_by_arithmetic_is_left_out_and_must_be_confirmed(tmp_path: Path, capsys):
+    path = arithmetic_workbook(tmp_path / "sums.xlsx")
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["Frame", "Envelope", "Design fee"]
+    (problem,) = estimate.problems
+    assert problem.row == 4 and problem.sheet == "Sheet"
+    assert "equals the sum of rows 2–3 above it (its section)" in problem.message
+    assert "take it back as an item" in problem.fix
+    code, out, err = run(["check", str(path)], capsys)
+    assert code == 2 and "left out until you confirm" in out + err
+    # Taken back (the import dialog's choice), or stated as an item: it counts.
+    kept = read_estimate(path, keep_rows=[("Sheet", 4)])
+    assert [i.name for i in kept.items][2] == "Building works" and kept.problems == []
+    fixed = read_estimate(arithmetic_workbook(tmp_path / "fixed.xlsx", "fixed"))
+    assert len(fixed.items) == 4 and fixed.problems == []
+
+
+def chart_first(path: Path) -> Path:
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Estimate"
+    ws.append(["Item", "Low", "Most likely", "High"])
+    ws.append(["Design", 10, 12, 16])
+    ws.append(["Build", 40, 45, 60])
+    chart = wb.create_chartsheet("Overview", 0)
+    bars = BarChart()
+    bars.add_data(Reference(ws, min_col=3, min_row=1, max_row=3), titles_from_data=True)
+    chart.add_chart(bars)
+    wb.create_sheet("Spare")
+    old = wb.create_sheet("Old estimate")
+    old.sheet_state = "hidden"
+    old.append(["Item", "Low", "Most likely", "High"])
+    old.append(["Design (2023)", 8, 10, 13])
+    wb.save(path)
+    return path
+
+
+def test_chart_sheet_first_is_skipped_and_said(tmp_path: Path, capsys) -> None:
+    path = chart_first(tmp_path / "chart.xlsx")
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["Design", "Build"]
+    code, out, _ = run(["check", str(path)], capsys)
+    assert code == 0
+    assert "sheet 'Overview' not read: a chart sheet (no cells)" in out
+    assert "sheet 'Spare' not read: empty" in out
+    assert (
+        "sheet 'Old estimate' (hidden) holds 1 line item, not read: add --sheet 'Old estimate' "
+        "(or --sheet all) to include it" in out
+    )
+
+
+def test_sheet_option_repeatable_and_all(tmp_path: Path, capsys) -> None:
+    path = chart_first(tmp_path / "chart.xlsx")
+    code, out, _ = run(["check", str(path), "--sheet", "all"], capsys)
+    assert code == 0 and "3 line item(s)" in out and "hidden sheet 'Old estimate' read" in out
+    estimate = read_estimate(path, sheet=["old estimate", "Estimate"])
+    assert [(i.sheet, i.row) for i in estimate.items] == [
+        ("Old estimate", 2),
+        ("Estimate", 2),
+        ("Estimate", 3),
+    ]
+    code, _, err = run(["report", str(path), "--sheet", "Nowhere"], capsys)
+    assert code == 2 and "has no sheet 'Nowhere'; its sheets are: Overview, Estimate" in err
+    code, _, err = run(["check", str(path), "--sheet", "Overview"], capsys)
+    assert code == 2 and "holds no line items (a chart sheet (no cells))" in err
+
+
+def test_register_recognised_whatever_the_sheet_order(tmp_path: Path) -> None:
+    wb = Workbook()
+    register = wb.active
+    register.title = "Risks"
+    register.append(["Risk", "Probability", "Most likely"])
+    register.append(["Permit delay", "30%", 50])
+    plan = wb.create_sheet("Plan")
+    plan.append(["Item", "Low", "Most likely", "High"])
+    plan.append(["Build", 40, 45, 60])
+    other = wb.create_sheet("Option B")
+    other.append(["Item", "Low", "Most likely", "High"])
+    other.append(["Build, option B", 50, 55, 70])
+    path = tmp_path / "order.xlsx"
+    wb.save(path)
+    estimate = read_estimate(path)
+    assert [s["name"] for s in estimate.summary["sheets_read"]] == ["Plan", "Risks"]
+    assert estimate.summary["other_sheets"] == [
+        {"name": "Option B", "items": 1, "hidden": False, "option": "--sheet 'Option B'"}
+    ]
+
+
+def write(tmp_path: Path, name: str, text: str) -> Path:
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def test_unclosed_quote_does_not_swallow_the_rows_after_it(tmp_path: Path, capsys) -> None:
+    path = write(
+        tmp_path,
+        "quote.csv",
+        "Item,Distribution,Low,Most likely,High\n"
+        "A,triangular,1,2,3\n"
+        '"B,triangular,1,2,3,G\n'
+        "C,triangular,1,2,3\n"
+        "D,triangular,1,2,3\n",
+    )
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["A", "B", "C", "D"]
+    messages = [p.message for p in estimate.problems]
+    assert any(m.startswith("line 3: a quote mark opens a field") for m in messages)
+    assert any("row 3 has 6 fields but the header has 5" in m for m in messages)
+    code, _, err = run(["check", str(path)], capsys)
+    assert code == 2 and "close the quote on line 3" in err
+
+
+def test_too_many_fields_is_a_problem_on_its_row(tmp_path: Path) -> None:
+    path = write(
+        tmp_path,
+        "wide.csv",
+        "Item,Low,Most likely,High\nPiling,1,200,1,500,1,900\nFrame,10,12,15\n",
+    )
+    estimate = read_estimate(path)
+    piling, frame = estimate.items
+    (problem,) = piling.read_problems
+    assert problem.row == 2 and "'1', '900' past the last column" in problem.message
+    assert not frame.read_problems
+
+
+def test_field_across_many_lines_is_reported(tmp_path: Path) -> None:
+    note = "\n".join(f"remark {k}" for k in range(12))
+    path = write(
+        tmp_path,
+        "long.csv",
+        f'Item,Low,Most likely,High,Notes\nA,1,2,3,"{note}"\nB,1,2,3,"two\nlines"\n',
+    )
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["A", "B"]
+    (problem,) = estimate.problems
+    assert problem.message.startswith("line 2: a quoted field runs across 12 lines, to line 13")
+    assert estimate.items[1].notes == {"Notes": "two\nlines"}
+
+
+def test_notes_columns_kept_saved_and_shown(cost_plan: Path, tmp_path: Path) -> None:
+    estimate = read_estimate(cost_plan)
+    assert estimate.items[1].notes == {"Ref": "1.2", "Basis": "quote 17"}
+    assert estimate.items[2].notes == {"Ref": "2.1"}
+    project = tmp_path / "depot.rangefold"
+    from engine import Settings
+
+    save_project(project, estimate, Settings())
+    loaded, _ = load_project(project)
+    assert [(i.sheet, i.row, i.notes) for i in loaded.items] == [
+        (i.sheet, i.row, i.notes) for i in estimate.items
+    ]
+    report = write_report(
+        tmp_path / "r.xlsx", estimate, analyze(estimate), Settings(), source_path=cost_plan
+    )
+    book = load_workbook(report)
+    rows = list(book["Items"].iter_rows(values_only=True))
+    header = rows[0]
+    assert {"Sheet", "Row", "Ref", "Basis", "Risk ID", "Owner"} <= set(header)
+    first = dict(zip(header, rows[1], strict=True))
+    assert (first["Sheet"], first["Row"], first["Basis"]) == ("Cost plan", 6, "rock allowance")
+    lines = [r[0] for r in book["Import"].iter_rows(min_row=3, values_only=True)]
+    assert any("row 12 skipped: subtotal row 'Total building'" in line for line in lines)
+
+
+def test_duplicate_headers_and_foreign_currency_are_problems(tmp_path: Path) -> None:
+    wb = Workbook()
+    ws = wb.active
+    ws["A1"] = "Depot extension, all figures in USD"
+    ws.append(["Item", "Low", "Most likely", "High", "High", "Notes", "Notes"])
+    ws.append(["Frame", "$3.0M", "$3.3M", "$3.9M", "$4.2M", "steel", "frame"])
+    ws.append(["Envelope", "€400k", "USD 450k", "520k", "560k", None, None])
+    path = tmp_path / "doubts.xlsx"
+    wb.save(path)
+    estimate = read_estimate(path)
+    assert estimate.unit == "USD"
+    duplicate, currency = estimate.problems
+    assert "the header 'High' names columns D, E; column D was read" in duplicate.message
+    assert (currency.row, currency.column) == (4, "Low")
+    assert "cell B4: '€400k' is not in USD" in currency.message
+    assert estimate.items[0].notes == {"High (E)": "$4.2M", "Notes": "steel", "Notes (G)": "frame"}
+    # Chosen in the import dialog, the column is no longer in doubt.
+    mapping = {"Item": "Item", "Low": "Low", "Most likely": "Most likely", "High": "High (E)"}
+    chosen = read_estimate(path, mapping=mapping)
+    assert [p.column for p in chosen.problems] == ["Low"]
+    assert chosen.items[0].high == 4_200_000
