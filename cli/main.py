@@ -120,7 +120,7 @@ def _problems(lines: Sequence[str], err: TextIO) -> int:
 def _gui(path: str | None, screenshot: str | None, sheets: list[str] | None = None) -> int:
     from gui.app import run  # lazily: report and check must work without a display
 
-    return run(path, screenshot, sheets) if sheets else run(path, screenshot)
+    return run(path, screenshot, sheets)
 
 
 def read(path: Path, sheets: list[str] | None = None) -> Estimate:
