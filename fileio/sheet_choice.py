@@ -43,10 +43,13 @@ def read_workbook_estimate(
     """The estimate of the chosen sheets (`sheets`: names, or ["all"]; None for the default),
     with `keep_rows` (sheet, row) taken as items although they read as subtotals."""
     book = read_workbook(path, mapping)
-    estimates = {
-        s.name: _sheet_estimate(s, mapping, keep_rows, book) for s in book.sheets if s.table
-    }
+    estimates = {s.name: _sheet_estimate(s, mapping, keep_rows) for s in book.sheets if s.table}
     chosen = _chosen(book, estimates, sheets, mapping, path)
+    for name in chosen if len(chosen) > 1 else ():
+        sheet = book.find(name)
+        assert sheet is not None and sheet.table is not None
+        sheet.table.read_with = frozenset(chosen) - {name}
+        estimates[name] = _sheet_estimate(sheet, mapping, keep_rows)
     estimate = _combined([estimates[n] for n in chosen], chosen)
     estimate.read_problems.extend(book.correlation_problems)
     estimate.correlation = book.correlation
@@ -91,7 +94,6 @@ def _sheet_estimate(
     sheet: SheetRead,
     mapping: dict[str, str] | None,
     keep_rows: Collection[tuple[str, int]],
-    book: WorkbookRead,
 ) -> Estimate:
     table = sheet.table
     assert table is not None  # only sheets with a header row are estimated

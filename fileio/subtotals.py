@@ -80,6 +80,12 @@ def adding_formula(formula: str, own_row: int) -> list[int] | None:
     return sorted(rows) if len(rows) >= 2 else None
 
 
+def sheets_referenced(formula: str) -> set[str]:
+    """The other sheets a formula takes cells from: `='Cost plan'!D13` -> {"Cost plan"}."""
+    found = re.findall(r"(?:'((?:[^']|'')+)'|([A-Za-z_][\w.]*))!", formula)
+    return {(quoted.replace("''", "'") or plain) for quoted, plain in found}
+
+
 def written_precision(value: float) -> float:
     """Half the last unit a typed amount shows: 3,650,000 is good to 5,000; 12.35 to 0.005.
 

@@ -33,7 +33,14 @@ from fileio.headers import (
 )
 from fileio.rows import item_from_cells
 from fileio.safety import UnreadableFile
-from fileio.subtotals import SectionSums, adding_formula, row_span, single_amount, totals_label
+from fileio.subtotals import (
+    SectionSums,
+    adding_formula,
+    row_span,
+    sheets_referenced,
+    single_amount,
+    totals_label,
+)
 
 # Columns whose merged cells mean "the same for every row" (a group label down a section);
 # anywhere else a merged cell hides a value the rows below it lack.
@@ -54,6 +61,8 @@ class Table:
     formula_text: dict[tuple[int, int], str] = field(default_factory=dict)
     # Sheet rows the user took back as items although they read as subtotals.
     keep_rows: frozenset[int] = frozenset()
+    # The other sheets read into the same estimate: a row copying their cells is not an item.
+    read_with: frozenset[str] = frozenset()
     # Cells covered by a merge (not its top-left cell) -> (top-left cell, range text).
     merged: dict[tuple[int, int], tuple[tuple[int, int], str]] = field(default_factory=dict)
     # Whether messages name cells as a spreadsheet does ("C5"); CSV rows are named by number.
@@ -218,6 +227,15 @@ def _subtotal(
     for column in ("Low", "Most likely", "High"):
         i = columns.get(column)
         formula = table.formula_text.get((index, i)) if i is not None else None
+        copied = {s.lower() for s in sheets_referenced(formula or "")}
+        linked = sorted(s for s in table.read_with if s.lower() in copied)
+        if linked:
+            cell = f"{column_letter(i)}{row_number}"
+            return (
+                f"row {item.name or '(no label)'!r} takes cell {cell} from sheet {linked[0]!r} "
+                f"({formula}), which is read too: counting both would count it twice",
+                False,
+            )
         rows = adding_formula(formula, row_number) if formula else None
         if rows:
             cell = f"{column_letter(i)}{row_number}"

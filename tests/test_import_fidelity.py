@@ -237,6 +237,26 @@ def test_sheet_option_repeatable_and_all(tmp_path: Path, capsys) -> None:
     assert code == 2 and "holds no line items (a chart sheet (no cells))" in err
 
 
+def test_a_summary_sheet_copying_other_sheets_is_not_counted_twice(tmp_path: Path) -> None:
+    path = cost_plan_workbook(tmp_path / "depot.xlsx")
+    book = load_workbook(path)
+    summary = book.create_sheet("Summary", 0)
+    summary.append(["Item", "Low", "Most likely", "High"])
+    summary.append(["Groundworks", None, "='Cost plan'!D8"])
+    summary.append(["Building", "='Cost plan'!C12", "='Cost plan'!D12", "='Cost plan'!E12"])
+    summary.append(["Contingency allowance", 200_000, 250_000, 400_000])
+    book.save(path)  # openpyxl drops the saved results; the copies are known by formula
+    estimate = read_estimate(path, sheet="all")
+    names = [i.name for i in estimate.items]
+    assert names[0] == "Contingency allowance" and "Groundworks" not in names
+    copies = [s for s in estimate.summary["rows_skipped"] if s["sheet"] == "Summary"]
+    assert [s["row"] for s in copies] == [2, 3]
+    assert (
+        "takes cell C2 from sheet 'Cost plan' (='Cost plan'!D8), which is read too"
+        in (copies[0]["reason"])
+    )
+
+
 def test_register_recognised_whatever_the_sheet_order(tmp_path: Path) -> None:
     wb = Workbook()
     register = wb.active
