@@ -124,7 +124,7 @@ def currency_problem(
     if marks is None or stated in marks:
         return None
     return Problem(
-        f"cell {cell}: {text.strip()!r} is not in {stated}, the currency the sheet states; "
+        f"{cell}: {text.strip()!r} is not in {stated}, the currency the sheet states; "
         "Rangefold does not convert currencies.",
         f"convert the amount to {stated} and type it without the other currency's mark.",
         item=item,

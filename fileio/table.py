@@ -314,8 +314,14 @@ def _cell_doubts(
     if currency:
         for column in AMOUNT_COLUMNS:
             i = columns.get(column)
-            text = row[i] if i is not None and i < len(row) else ""
-            cell = f"{column_letter(i)}{index + 1}" if table.cell_references else f"{column}"
+            if i is None:
+                continue
+            text = row[i] if i < len(row) else ""
+            cell = (
+                f"cell {column_letter(i)}{index + 1}"
+                if table.cell_references
+                else f"the {column} cell"
+            )
             found = currency_problem(
                 text, currency, cell, column, index + 1, item.name, table.sheet
             )

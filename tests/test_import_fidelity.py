@@ -376,3 +376,18 @@ def test_duplicate_headers_and_foreign_currency_are_problems(tmp_path: Path) -> 
     chosen = read_estimate(path, mapping=mapping)
     assert [p.column for p in chosen.problems] == ["Low"]
     assert chosen.items[0].high == 4_200_000
+
+
+def test_sheets_stating_different_currencies_are_not_added_silently(tmp_path: Path) -> None:
+    wb = Workbook()
+    plan = wb.active
+    plan.title = "Plan"
+    plan.append(["Item", "Low (EUR)", "Most likely (EUR)", "High (EUR)"])
+    plan.append(["Build", 40, 45, 60])
+    risks = wb.create_sheet("Risks")
+    risks.append(["Risk", "Probability", "Most likely (GBP)"])
+    risks.append(["Permit delay", "30%", 50])
+    path = tmp_path / "units.xlsx"
+    wb.save(path)
+    (problem,) = read_estimate(path).problems
+    assert "sheet 'Plan' states EUR, sheet 'Risks' states GBP" in problem.message
