@@ -11,6 +11,7 @@ Distributions vol. 2, ch. 26), a risk event p times its impact's mean.
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import pytest
@@ -391,3 +392,21 @@ def test_sheets_stating_different_currencies_are_not_added_silently(tmp_path: Pa
     wb.save(path)
     (problem,) = read_estimate(path).problems
     assert "sheet 'Plan' states EUR, sheet 'Risks' states GBP" in problem.message
+
+
+def test_pdf_report_has_a_page_of_what_the_import_left_out(cost_plan: Path, tmp_path: Path):
+    from engine import Settings
+    from reports.import_provenance import import_lines
+
+    estimate = read_estimate(cost_plan)
+    lines = import_lines(estimate)
+    assert any("row 12 skipped: subtotal row 'Total building'" in line for line in lines)
+    analysis = analyze(estimate)
+
+    def pages(estimate) -> int:
+        path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings())
+        return len(re.findall(rb"/Type\s*/Page\b(?!s)", path.read_bytes()))
+
+    with_import = pages(estimate)
+    estimate.summary = {}
+    assert with_import == pages(estimate) + 1
