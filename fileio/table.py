@@ -273,8 +273,12 @@ def _confirm_problem(table: Table, row_number: int, item: LineItem, reason: str)
         "item in the import dialog.",
         item=item.name,
         row=row_number,
+        column=_FIELD_COLUMNS[single_amount(item)[0]] if single_amount(item) else None,
         sheet=table.sheet,
     )
+
+
+_FIELD_COLUMNS = {"low": "Low", "most_likely": "Most likely", "high": "High"}
 
 
 def _merged_problems(

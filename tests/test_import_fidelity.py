@@ -176,7 +176,7 @@ def test_a_subtotal_by_arithmetic_is_left_out_and_must_be_confirmed(tmp_path: Pa
     estimate = read_estimate(path)
     assert [i.name for i in estimate.items] == ["Frame", "Envelope", "Design fee"]
     (problem,) = estimate.problems
-    assert problem.row == 4 and problem.sheet == "Sheet"
+    assert (problem.sheet, problem.row, problem.column) == ("Sheet", 4, "Most likely")
     assert "equals the sum of rows 2–3 above it (its section)" in problem.message
     assert "take it back as an item" in problem.fix
     code, out, err = run(["check", str(path)], capsys)
