@@ -169,20 +169,26 @@ class SectionSums:
         self.subtotals.add(row, {f: getattr(item, f) for f in _AMOUNTS})
         self.new_section()
 
-    def rows_summed_by(self, item: LineItem) -> tuple[str, list[int]] | None:
-        """(what, rows) when the row's single amount is the sum of the rows above it."""
-        single = single_amount(item)
-        if single is None:
+    def rows_summed_by(self, item: LineItem) -> tuple[str, list[int], dict[str, float]] | None:
+        """(what, rows, amounts) when the row's amounts (its one amount, or each end of its
+        range) are the sums of the rows above it, to the rounding each is written to."""
+        if item.values or item.probability != 1.0:
             return None
-        field_name, value = single
-        tolerance = written_precision(value)
+        single = single_amount(item)
+        given = (
+            dict([single])
+            if single
+            else {f: getattr(item, f) for f in _AMOUNTS if getattr(item, f) is not None}
+        )
+        if not given:
+            return None
         stretches = [("its section", self.section)]
         if item.group in self.groups:
             stretches.append((f"group {item.group!r}", self.groups[item.group]))
         stretches += [("the sheet", self.sheet), ("the subtotals", self.subtotals)]
         for what, sums in stretches:
-            if sums.matches(field_name, value, tolerance):
-                return what, sums.rows
+            if all(sums.matches(f, v, written_precision(v)) for f, v in given.items()):
+                return what, sums.rows, given
         return None
 
     def all_amounts_summed(self, item: LineItem) -> bool:

@@ -250,11 +250,15 @@ def _subtotal(
     if not item.name and sums.all_amounts_summed(item):
         return "totals row (no label; its amounts are the sums of the items above it)", False
     if summed and "Distribution" not in {c for c in columns if _text(table, index, columns[c])}:
-        what, rows = summed
-        value = single_amount(item)[1]  # rows_summed_by found one
+        what, rows, given = summed
+        if len(given) == 1:
+            amounts = f"its one amount, {next(iter(given.values())):,.10g}, equals the sum"
+        else:
+            listed = ", ".join(f"{_FIELD_COLUMNS[f]} {v:,.10g}" for f, v in given.items())
+            amounts = f"its amounts ({listed}) equal the sums"
         return (
-            f"row {item.name!r} looks like a subtotal: its one amount, {value:,.10g}, equals "
-            f"the sum of {row_span(rows)} above it ({what}); left out until you confirm",
+            f"row {item.name!r} looks like a subtotal: {amounts} of {row_span(rows)} above it "
+            f"({what}); left out until you confirm",
             True,
         )
     return None

@@ -188,6 +188,26 @@ def test_a_subtotal_by_arithmetic_is_left_out_and_must_be_confirmed(tmp_path: Pa
     assert len(fixed.items) == 4 and fixed.problems == []
 
 
+def test_a_named_row_whose_range_is_the_sums_above_is_to_confirm(tmp_path: Path) -> None:
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["Item", "Low", "Most likely", "High"])
+    ws.append(["Building"])
+    ws.append(["Frame", 3_000_000, 3_300_000, 3_900_000])
+    ws.append(["Envelope", 3_200_000, 3_650_000, 4_200_000])
+    ws.append(["Building", "6.2M", "6.95M", "8.1M"])  # the section's name on its sums
+    ws.append(["Fit-out", 1_000_000, 1_200_000, 1_500_000])
+    path = tmp_path / "range.xlsx"
+    wb.save(path)
+    estimate = read_estimate(path)
+    assert [i.name for i in estimate.items] == ["Frame", "Envelope", "Fit-out"]
+    (problem,) = estimate.problems
+    assert (
+        "its amounts (Low 6,200,000, Most likely 6,950,000, High 8,100,000) equal the sums "
+        "of rows 3–4 above it (its section)" in problem.message
+    )
+
+
 def chart_first(path: Path) -> Path:
     wb = Workbook()
     ws = wb.active
