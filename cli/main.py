@@ -207,6 +207,10 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
         print(dumps(analysis, provenance(estimate, settings, path)), file=out)
     elif not args.output:
+        from fileio.import_summary import brief_lines
+
+        for line in brief_lines(estimate.summary):
+            print(line, file=out)
         print_summary(analysis, settings.unit or estimate.unit, out)
     return OK
 

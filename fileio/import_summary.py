@@ -94,3 +94,16 @@ def summary_lines(summary: dict[str, Any]) -> list[str]:
         + column_lines(summary)
         + [skipped_row_line(e, several) for e in summary.get("rows_skipped", [])]
     )
+
+
+def brief_lines(summary: dict[str, Any]) -> list[str]:
+    """What a report's terminal summary says about the import: the sheets, and how many
+    subtotal rows were left out (`check` lists them)."""
+    left_out = sum(1 for e in summary.get("rows_skipped", []) if e.get("subtotal"))
+    lines = sheet_lines(summary)
+    if left_out:
+        lines.append(
+            f"{left_out} subtotal row{'s' if left_out != 1 else ''} left out of the items; "
+            "rangefold check lists them"
+        )
+    return lines

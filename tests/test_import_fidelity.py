@@ -67,6 +67,13 @@ def test_report_total_is_the_sum_of_the_real_items(cost_plan: Path, capsys) -> N
     }
 
 
+def test_report_summary_says_which_sheets_and_how_many_subtotals(cost_plan: Path, capsys):
+    code, out, _ = run(["report", str(cost_plan)], capsys)
+    assert code == 0
+    assert out.startswith("sheets combined: 'Cost plan' (4 items), 'Risk register' (2 items")
+    assert "3 subtotal rows left out of the items; rangefold check lists them" in out
+
+
 def test_the_default_reads_the_plan_and_its_register(cost_plan: Path) -> None:
     estimate = read_estimate(cost_plan)
     assert [s["name"] for s in estimate.summary["sheets_read"]] == ["Cost plan", "Risk register"]
