@@ -26,6 +26,7 @@ _SKIP_REASONS = {
     "no header": "no header row of line items in its first 30 rows",
     "words": "notes or instructions (by its name)",
     "correlations": "read as the stated correlations",
+    "items": "its headers are not recognised; choose its columns in the import dialog",
 }
 
 
@@ -43,13 +44,24 @@ def read_workbook_estimate(
     """The estimate of the chosen sheets (`sheets`: names, or ["all"]; None for the default),
     with `keep_rows` (sheet, row) taken as items although they read as subtotals."""
     book = read_workbook(path, mapping)
-    estimates = {s.name: _sheet_estimate(s, mapping, keep_rows) for s in book.sheets if s.table}
-    chosen = _chosen(book, estimates, sheets, mapping, path)
-    for name in chosen if len(chosen) > 1 else ():
+    # Each sheet as its own headers say (what a register is, how many items), then the
+    # chosen sheets again: the caller's mapping names the first sheet's headers only, and
+    # applied to a register it would leave the register's probabilities unread.
+    estimates = {}
+    for sheet in book.sheets:
+        guessed = _guessed_estimate(sheet, keep_rows)
+        if guessed is not None:
+            estimates[sheet.name] = guessed
+    readable = set(estimates) | {s.name for s in book.sheets if s.mapped}
+    chosen = _chosen(book, estimates, readable, sheets, mapping, path)
+    for name in chosen:
         sheet = book.find(name)
         assert sheet is not None and sheet.table is not None
-        sheet.table.read_with = frozenset(chosen) - {name}
-        estimates[name] = _sheet_estimate(sheet, mapping, keep_rows)
+        given = mapping if name == chosen[0] and sheet.mapped else None
+        read_with = frozenset(chosen) - {name}
+        copies = read_with and any("!" in f for f in sheet.table.formula_text.values())
+        if given or copies or name not in estimates:
+            estimates[name] = _sheet_estimate(sheet, given, keep_rows, read_with)
     estimate = _combined([estimates[n] for n in chosen], chosen)
     estimate.read_problems.extend(book.correlation_problems)
     estimate.correlation = book.correlation
@@ -94,21 +106,39 @@ def _sheet_estimate(
     sheet: SheetRead,
     mapping: dict[str, str] | None,
     keep_rows: Collection[tuple[str, int]],
+    read_with: frozenset[str] = frozenset(),
 ) -> Estimate:
     table = sheet.table
     assert table is not None  # only sheets with a header row are estimated
     table.keep_rows = frozenset(r for s, r in keep_rows if s == sheet.name)
-    return estimate_from_table(table, mapping if sheet.mapped else None)
+    table.read_with = read_with
+    return estimate_from_table(table, mapping)
+
+
+def _guessed_estimate(sheet: SheetRead, keep_rows: Collection[tuple[str, int]]) -> Estimate | None:
+    """The sheet read by the headers it has; None when only the caller's mapping finds them."""
+    if sheet.table is None:
+        return None
+    try:
+        return _sheet_estimate(sheet, None, keep_rows)
+    except UnreadableFile:
+        return None
 
 
 def _chosen(
     book: WorkbookRead,
     estimates: dict[str, Estimate],
+    readable: set[str],
     wanted: Sequence[str] | None,
     mapping: dict[str, str] | None,
     path: Path,
 ) -> list[str]:
-    items = [s for s in book.sheets if s.kind == "items" and s.name in estimates]
+    """The sheets to read, the one the mapping is for first."""
+
+    def register(name: str) -> bool:
+        return name in estimates and is_risk_register(estimates[name])
+
+    items = [s for s in book.sheets if s.kind == "items" and s.name in readable]
     if wanted and any(w.strip().lower() == ALL_SHEETS for w in wanted):
         if not items:
             raise _no_items(book, path)
@@ -121,7 +151,7 @@ def _chosen(
                 raise UnreadableFile(
                     f"{path.name} has no sheet {name!r}; its sheets are: {', '.join(book.names)}."
                 )
-            if sheet.name not in estimates:
+            if sheet.name not in readable:
                 raise UnreadableFile(
                     f"sheet {sheet.name!r} of {path.name} holds no line items "
                     f"({_SKIP_REASONS[sheet.kind]}). Choose another sheet."
@@ -135,10 +165,9 @@ def _chosen(
     if not candidates:
         raise _mapping_not_found(mapping, path) if mapping else _no_items(book, path)
     visible = [s for s in candidates if not s.hidden] or candidates
-    registers = [s.name for s in visible if is_risk_register(estimates[s.name])]
-    plans = [s.name for s in visible if s.name not in registers]
-    main = plans[:1] or registers[:1]
-    others = [s.name for s in items if not s.hidden and is_risk_register(estimates[s.name])]
+    plans = [s.name for s in visible if not register(s.name)]
+    main = plans[:1] or [visible[0].name]
+    others = [s.name for s in items if not s.hidden and register(s.name)]
     return main + [n for n in others if n not in main]
 
 

@@ -437,3 +437,17 @@ def test_pdf_report_has_a_page_of_what_the_import_left_out(cost_plan: Path, tmp_
     with_import = pages(estimate)
     estimate.summary = {}
     assert with_import == pages(estimate) + 1
+
+
+def test_the_dialogs_mapping_is_for_its_sheet_not_the_register(cost_plan: Path) -> None:
+    """The plan has no Probability column: its mapping, applied to the register as well,
+    would leave the register's probabilities unread and count every risk as certain."""
+    book = load_workbook(cost_plan)
+    book["Risk register"]["B1"] = "Description"  # every header the mapping names
+    book.save(cost_plan)
+    mapping = {"Item": "Description", "Low": "Low", "Most likely": "Most likely", "High": "High"}
+    estimate = read_estimate(cost_plan, mapping=mapping, sheet=["Cost plan", "Risk register"])
+    register = [i for i in estimate.items if i.sheet == "Risk register"]
+    assert [i.probability for i in register] == [r[1] for r in REGISTER]
+    default = read_estimate(cost_plan, mapping=mapping)
+    assert [s["name"] for s in default.summary["sheets_read"]] == ["Cost plan", "Risk register"]
