@@ -78,3 +78,15 @@ def cost_plan_workbook(path: Path) -> Path:
         path, 1, {"C12": 6_200_000, "D12": 6_950_000, "E12": 8_100_000, "D13": 10_600_000}
     )
     return path
+
+
+def workbook(path: Path, sheets: dict[str, list[list]]) -> Path:
+    """A workbook of the given sheets, each a list of rows from row 1 (a blank row is [])."""
+    book = Workbook()
+    book.remove(book.active)
+    for name, rows in sheets.items():
+        sheet = book.create_sheet(name)
+        for row in rows:
+            sheet.append(row)
+    book.save(path)
+    return path

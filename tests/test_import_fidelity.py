@@ -21,6 +21,7 @@ from estimator_workbooks import (
     add_cached_values,
     cost_plan_workbook,
     triangular_mean,
+    workbook,
 )
 from openpyxl import Workbook, load_workbook
 from openpyxl.chart import BarChart, Reference
@@ -114,51 +115,46 @@ def test_check_lists_every_row_sheet_and_column_not_read(cost_plan: Path, capsys
     ],
 )
 def test_totals_by_label_in_any_text_column(label: str, tmp_path: Path) -> None:
-    wb = Workbook()
-    ws = wb.active
-    ws.append(["Ref", "Item", "Low", "Most likely", "High"])
-    ws.append(["1", "Excavation", 10, 12, 20])
-    ws.append(["2", "Backfill", 5, 6, 9])
-    ws.append([None, label, 15, 18, 29])
-    ws.append([label, None, 15, 18, 29])  # the label left of an empty Item cell
-    path = tmp_path / "labels.xlsx"
-    wb.save(path)
-    estimate = read_estimate(path)
+    rows = [
+        ["Ref", "Item", "Low", "Most likely", "High"],
+        ["1", "Excavation", 10, 12, 20],
+        ["2", "Backfill", 5, 6, 9],
+        [None, label, 15, 18, 29],
+        [label, None, 15, 18, 29],  # the label left of an empty Item cell
+    ]
+    estimate = read_estimate(workbook(tmp_path / "labels.xlsx", {"Sheet": rows}))
     assert [i.name for i in estimate.items] == ["Excavation", "Backfill"]
     assert [s["row"] for s in estimate.summary["rows_skipped"] if s.get("subtotal")] == [4, 5]
 
 
 def test_names_that_only_look_like_totals_stay_items(tmp_path: Path) -> None:
-    wb = Workbook()
-    ws = wb.active
-    ws.append(["Item", "Low", "Most likely", "High", "Notes"])
-    ws.append(["Excavation", 10, 12, 20, "total of three pits"])
-    ws.append(["Total station survey", 1, 2, 3, None])  # an instrument
-    ws.append(["Preliminaries (lump sum)", 30, 35, 45, None])
-    ws.append(["Totalising flow meters", 4, 5, 7, None])
-    path = tmp_path / "names.xlsx"
-    wb.save(path)
-    estimate = read_estimate(path)
+    rows = [
+        ["Item", "Low", "Most likely", "High", "Notes"],
+        ["Excavation", 10, 12, 20, "total of three pits"],
+        ["Total station survey", 1, 2, 3, None],  # an instrument
+        ["Preliminaries (lump sum)", 30, 35, 45, None],
+        ["Totalising flow meters", 4, 5, 7, None],
+    ]
+    estimate = read_estimate(workbook(tmp_path / "names.xlsx", {"Sheet": rows}))
     assert len(estimate.items) == 4 and estimate.problems == []
 
 
 def test_formula_subtotal_without_a_label_and_without_a_result(tmp_path: Path) -> None:
     """A formula adding other rows is a subtotal whether or not a result was saved; a formula
     within its own row (a High as a markup on Most likely) is an item's value."""
-    wb = Workbook()
-    ws = wb.active
-    ws.append(["Item", "Low", "Most likely", "High"])
-    ws.append(["Excavation", 10, 12, "=C2*1.5"])
-    ws.append(["Backfill", 5, 6, 9])
-    ws.append(["Groundworks", "=B2+B3", "=SUM(C2:C3)", "=SUBTOTAL(9,D2:D3)"])
-    path = tmp_path / "formulas.xlsx"
-    wb.save(path)
+    rows = [
+        ["Item", "Low", "Most likely", "High"],
+        ["Excavation", 10, 12, "=C2*1.5"],
+        ["Backfill", 5, 6, 9],
+        ["Groundworks", "=B2+B3", "=SUM(C2:C3)", "=SUBTOTAL(9,D2:D3)"],
+    ]
+    path = workbook(tmp_path / "formulas.xlsx", {"Sheet": rows})
     add_cached_values(path, 1, {"D2": 18, "B4": 15, "C4": 18, "D4": 27})
     estimate = read_estimate(path)
     assert [(i.name, i.high) for i in estimate.items] == [("Excavation", 18), ("Backfill", 9)]
     (skipped,) = estimate.summary["rows_skipped"]
     assert skipped["row"] == 4 and "cell B4 holds =B2+B3, adding rows 2–3" in skipped["reason"]
-    wb.save(path)  # the same formulas, no saved results at all
+    workbook(path, {"Sheet": rows})  # the same formulas, no saved results at all
     estimate = read_estimate(path)
     assert [i.name for i in estimate.items] == ["Excavation", "Backfill"]
     assert "no saved result" in str(estimate.problems[0])  # the markup's, not the subtotal's
@@ -166,16 +162,15 @@ def test_formula_subtotal_without_a_label_and_without_a_result(tmp_path: Path) -
 
 
 def arithmetic_workbook(path: Path, distribution: str | None = None) -> Path:
-    wb = Workbook()
-    ws = wb.active
-    ws.append(["Item", "Distribution", "Low", "Most likely", "High"])
-    ws.append(["Frame", "triangular", 3_000_000, 3_302_500, 3_900_000])
-    ws.append(["Envelope", "triangular", 3_200_000, 3_648_900, 4_200_000])
-    # 6,951,400 typed to the nearest 10,000: a subtotal by its arithmetic alone.
-    ws.append(["Building works", distribution, None, "6,950,000", None])
-    ws.append(["Design fee", "fixed", None, 410_000, None])
-    wb.save(path)
-    return path
+    rows = [
+        ["Item", "Distribution", "Low", "Most likely", "High"],
+        ["Frame", "triangular", 3_000_000, 3_302_500, 3_900_000],
+        ["Envelope", "triangular", 3_200_000, 3_648_900, 4_200_000],
+        # 6,951,400 typed to the nearest 10,000: a subtotal by its arithmetic alone.
+        ["Building works", distribution, None, "6,950,000", None],
+        ["Design fee", "fixed", None, 410_000, None],
+    ]
+    return workbook(path, {"Sheet": rows})
 
 
 def test_a_subtotal_by_arithmetic_is_left_out_and_must_be_confirmed(tmp_path: Path, capsys):
@@ -196,17 +191,15 @@ def test_a_subtotal_by_arithmetic_is_left_out_and_must_be_confirmed(tmp_path: Pa
 
 
 def test_a_named_row_whose_range_is_the_sums_above_is_to_confirm(tmp_path: Path) -> None:
-    wb = Workbook()
-    ws = wb.active
-    ws.append(["Item", "Low", "Most likely", "High"])
-    ws.append(["Building"])
-    ws.append(["Frame", 3_000_000, 3_300_000, 3_900_000])
-    ws.append(["Envelope", 3_200_000, 3_650_000, 4_200_000])
-    ws.append(["Building", "6.2M", "6.95M", "8.1M"])  # the section's name on its sums
-    ws.append(["Fit-out", 1_000_000, 1_200_000, 1_500_000])
-    path = tmp_path / "range.xlsx"
-    wb.save(path)
-    estimate = read_estimate(path)
+    rows = [
+        ["Item", "Low", "Most likely", "High"],
+        ["Building"],
+        ["Frame", 3_000_000, 3_300_000, 3_900_000],
+        ["Envelope", 3_200_000, 3_650_000, 4_200_000],
+        ["Building", "6.2M", "6.95M", "8.1M"],  # the section's name on its sums
+        ["Fit-out", 1_000_000, 1_200_000, 1_500_000],
+    ]
+    estimate = read_estimate(workbook(tmp_path / "range.xlsx", {"Sheet": rows}))
     assert [i.name for i in estimate.items] == ["Frame", "Envelope", "Fit-out"]
     (problem,) = estimate.problems
     assert (
@@ -286,20 +279,12 @@ def test_a_summary_sheet_copying_other_sheets_is_not_counted_twice(tmp_path: Pat
 
 
 def test_register_recognised_whatever_the_sheet_order(tmp_path: Path) -> None:
-    wb = Workbook()
-    register = wb.active
-    register.title = "Risks"
-    register.append(["Risk", "Probability", "Most likely"])
-    register.append(["Permit delay", "30%", 50])
-    plan = wb.create_sheet("Plan")
-    plan.append(["Item", "Low", "Most likely", "High"])
-    plan.append(["Build", 40, 45, 60])
-    other = wb.create_sheet("Option B")
-    other.append(["Item", "Low", "Most likely", "High"])
-    other.append(["Build, option B", 50, 55, 70])
-    path = tmp_path / "order.xlsx"
-    wb.save(path)
-    estimate = read_estimate(path)
+    sheets = {
+        "Risks": [["Risk", "Probability", "Most likely"], ["Permit delay", "30%", 50]],
+        "Plan": [["Item", "Low", "Most likely", "High"], ["Build", 40, 45, 60]],
+        "Option B": [["Item", "Low", "Most likely", "High"], ["Build, option B", 50, 55, 70]],
+    }
+    estimate = read_estimate(workbook(tmp_path / "order.xlsx", sheets))
     assert [s["name"] for s in estimate.summary["sheets_read"]] == ["Plan", "Risks"]
     assert estimate.summary["other_sheets"] == [
         {"name": "Option B", "items": 1, "hidden": False, "option": "--sheet 'Option B'"}
@@ -384,14 +369,13 @@ def test_notes_columns_kept_saved_and_shown(cost_plan: Path, tmp_path: Path) -> 
 
 
 def test_duplicate_headers_and_foreign_currency_are_problems(tmp_path: Path) -> None:
-    wb = Workbook()
-    ws = wb.active
-    ws["A1"] = "Depot extension, all figures in USD"
-    ws.append(["Item", "Low", "Most likely", "High", "High", "Notes", "Notes"])
-    ws.append(["Frame", "$3.0M", "$3.3M", "$3.9M", "$4.2M", "steel", "frame"])
-    ws.append(["Envelope", "€400k", "USD 450k", "520k", "560k", None, None])
-    path = tmp_path / "doubts.xlsx"
-    wb.save(path)
+    rows = [
+        ["Depot extension, all figures in USD"],
+        ["Item", "Low", "Most likely", "High", "High", "Notes", "Notes"],
+        ["Frame", "$3.0M", "$3.3M", "$3.9M", "$4.2M", "steel", "frame"],
+        ["Envelope", "€400k", "USD 450k", "520k", "560k", None, None],
+    ]
+    path = workbook(tmp_path / "doubts.xlsx", {"Sheet": rows})
     estimate = read_estimate(path)
     assert estimate.unit == "USD"
     duplicate, currency = estimate.problems
@@ -407,17 +391,11 @@ def test_duplicate_headers_and_foreign_currency_are_problems(tmp_path: Path) -> 
 
 
 def test_sheets_stating_different_currencies_are_not_added_silently(tmp_path: Path) -> None:
-    wb = Workbook()
-    plan = wb.active
-    plan.title = "Plan"
-    plan.append(["Item", "Low (EUR)", "Most likely (EUR)", "High (EUR)"])
-    plan.append(["Build", 40, 45, 60])
-    risks = wb.create_sheet("Risks")
-    risks.append(["Risk", "Probability", "Most likely (GBP)"])
-    risks.append(["Permit delay", "30%", 50])
-    path = tmp_path / "units.xlsx"
-    wb.save(path)
-    (problem,) = read_estimate(path).problems
+    sheets = {
+        "Plan": [["Item", "Low (EUR)", "Most likely (EUR)", "High (EUR)"], ["Build", 40, 45, 60]],
+        "Risks": [["Risk", "Probability", "Most likely (GBP)"], ["Permit delay", "30%", 50]],
+    }
+    (problem,) = read_estimate(workbook(tmp_path / "units.xlsx", sheets)).problems
     assert "sheet 'Plan' states EUR, sheet 'Risks' states GBP" in problem.message
 
 
