@@ -59,3 +59,16 @@ def test_preview_numbers_rows_as_the_sheet_and_names_the_pert_shape(qtbot, tmp_p
     assert first == "5"  # the row below the header, as the problem list numbers it
     labels = [w.text() for w in dialog.findChildren(QLabel)]
     assert "PERT shape:" in labels and "Shape:" not in labels
+
+
+def test_item_table_shows_source_and_notes_and_edits_keep_them(tmp_path):
+    from gui.item_model import item_cells, item_from_text, source_tooltip
+
+    item = read_estimate(cost_plan_workbook(tmp_path / "depot.xlsx")).items[0]
+    assert source_tooltip(item) == (
+        "From sheet 'Cost plan', row 6\nRef: 1.1\nBasis: rock allowance"
+    )
+    cells = item_cells(item) | {"High": "1400000"}
+    edited = item_from_text(cells, item)
+    assert edited.high == 1_400_000
+    assert (edited.sheet, edited.row, edited.notes) == (item.sheet, item.row, item.notes)
