@@ -2,7 +2,9 @@
 
 Every row below the header ends up somewhere the user can see it: as a line item (a draft
 when something in it could not be read) or in `summary["rows_skipped"]` with the reason
-(blank, a totals row, a section heading). `rows_read == items_taken + len(rows_skipped)`.
+(blank, a subtotal by label, formula or arithmetic — see `fileio.subtotals` —, a section
+heading). `rows_read == items_taken + len(rows_skipped)`. Every cell of a row that no field
+takes travels with its item as a note, by header (`fileio.column_checks`).
 """
 
 from __future__ import annotations
