@@ -11,6 +11,7 @@ it are still read. A quoted field running across many lines is reported too.
 from __future__ import annotations
 
 import csv
+import io
 from collections.abc import Iterator
 
 from engine import Problem
@@ -36,7 +37,9 @@ def csv_records(
     A field above the csv module's size limit raises `FieldTooLarge` when the fault is not
     an unclosed quote on a line of its own.
     """
-    lines = text.splitlines(keepends=True)
+    # Lines end at \r\n, \n or \r only, as csv reads them: str.splitlines would also break
+    # at a form feed or U+2028 inside a cell.
+    lines = io.StringIO(text, newline="").readlines()
     start = 0  # index of the line the current reader began at
     number = 0
     width = 0

@@ -429,3 +429,16 @@ def test_the_dialogs_mapping_is_for_its_sheet_not_the_register(cost_plan: Path) 
     assert [i.probability for i in register] == [r[1] for r in REGISTER]
     default = read_estimate(cost_plan, mapping=mapping)
     assert [s["name"] for s in default.summary["sheets_read"]] == ["Cost plan", "Risk register"]
+
+
+def test_line_separators_inside_a_cell_do_not_split_its_row(tmp_path: Path) -> None:
+    """Only CR, LF and CRLF end a CSV line; a form feed or U+2028 (pasted from a word
+    processor) stays inside its cell."""
+    path = write(
+        tmp_path,
+        "separators.csv",
+        "Item,Low,Most likely,High\r\nPiling\u2028(bored),1,2,3\rFrame\x0c,4,5,6\n",
+    )
+    estimate = read_estimate(path)
+    assert [(i.name, i.high) for i in estimate.items] == [("Piling\u2028(bored)", 3), ("Frame", 6)]
+    assert estimate.problems == []
