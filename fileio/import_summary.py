@@ -38,7 +38,10 @@ def sheet_lines(summary: dict[str, Any]) -> list[str]:
         )
     for skipped in summary.get("sheets_skipped", []):
         hidden = " (hidden)" if skipped.get("hidden") else ""
-        lines.append(f"sheet {skipped['name']!r}{hidden} not read: {skipped['reason']}")
+        reason = skipped["reason"]
+        # The Correlations sheet is read, though not for items.
+        verb = "" if reason.startswith("read as") else "not read: "
+        lines.append(f"sheet {skipped['name']!r}{hidden} {verb}{reason}")
     return lines
 
 
