@@ -72,3 +72,17 @@ def test_item_table_shows_source_and_notes_and_edits_keep_them(tmp_path):
     edited = item_from_text(cells, item)
     assert edited.high == 1_400_000
     assert (edited.sheet, edited.row, edited.notes) == (item.sheet, item.row, item.notes)
+
+
+def test_sheets_from_the_command_line_preselect_the_dialog(qtbot, tmp_path):
+    path = cost_plan_workbook(tmp_path / "depot.xlsx")
+    dialog = ImportDialog(path, sheets=["Risk register"])
+    qtbot.addWidget(dialog)
+    assert dialog.sheet.currentText() == "Risk register"
+    assert [i.sheet for i in dialog.estimate.items] == ["Risk register"] * 2
+    assert set(dialog.other_sheets) == {"Cost plan"}
+    assert not dialog.other_sheets["Cost plan"].isChecked()
+    every = ImportDialog(path, sheets=["all"])
+    qtbot.addWidget(every)
+    assert len(every.estimate.items) == 6
+    assert every.other_sheets["Risk register"].isChecked()
