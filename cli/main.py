@@ -67,6 +67,7 @@ def build_parser() -> argparse.ArgumentParser:
         "report", help="analyse an estimate and write the report", epilog=GUIDE_POINTER
     )
     report.add_argument("input", help="estimate: .csv, .tsv, .txt, .xlsx, .xlsm or .rangefold")
+    add_sheet_option(report)
     report.add_argument("-o", "--output", help="report file: .xlsx, .pdf or .json")
     report.add_argument("--json", action="store_true", help="print the analysis as JSON")
     report.add_argument("--title", help="the estimate's name in the report (default: the file's)")
@@ -76,11 +77,23 @@ def build_parser() -> argparse.ArgumentParser:
 
     check = commands.add_parser("check", help="validate an estimate and list its problems")
     check.add_argument("input")
+    add_sheet_option(check)
 
     gui = commands.add_parser("gui", help="open the window")
     gui.add_argument("file", nargs="?")
     gui.add_argument("--screenshot", help="save a PNG of the window and quit")
+    add_sheet_option(gui)
     return parser
+
+
+def add_sheet_option(command: argparse.ArgumentParser) -> None:
+    command.add_argument(
+        "--sheet",
+        action="append",
+        metavar="NAME",
+        help="workbook sheet to read (repeat for several; 'all' for every sheet of items); "
+        "default: the first sheet of items and every risk register",
+    )
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -91,10 +104,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     except UsageProblem as bad:
         return _problems([str(bad)], sys.stderr)
     if args.command in (None, "gui"):
-        return _gui(getattr(args, "file", None), getattr(args, "screenshot", None))
+        return _gui(
+            getattr(args, "file", None),
+            getattr(args, "screenshot", None),
+            getattr(args, "sheet", None),
+        )
     try:
         if args.command == "check":
-            return check(Path(args.input), sys.stdout, sys.stderr)
+            return check(Path(args.input), sys.stdout, sys.stderr, args.sheet)
         if args.command == "compare":
             return compare_command(args, sys.stdout, sys.stderr)
         return report(args, sys.stdout, sys.stderr)
@@ -123,40 +140,30 @@ def _problems(lines: Sequence[str], err: TextIO) -> int:
     return INPUT_PROBLEM
 
 
-def _gui(path: str | None, screenshot: str | None) -> int:
+def _gui(path: str | None, screenshot: str | None, sheets: list[str] | None = None) -> int:
     from gui.app import run  # lazily: report and check must work without a display
 
-    return run(path, screenshot)
+    return run(path, screenshot, sheets)
 
 
-def read(path: Path) -> Estimate:
-    from fileio.readers import read_estimate
+def read(path: Path, sheets: list[str] | None = None) -> Estimate:
+    from fileio.readers import WORKBOOK_SUFFIXES, read_estimate
 
     if not path.is_file():
         raise UsageProblem(f"{path}: no such file. Check the path and the file name.")
-    return read_estimate(path)
+    if sheets and path.suffix.lower() not in WORKBOOK_SUFFIXES:
+        raise UsageProblem(f"--sheet: {path.name} is not a workbook. Fix: leave --sheet out.")
+    return read_estimate(path, sheet=sheets)
 
 
-def check(path: Path, out: TextIO, err: TextIO) -> int:
+def check(path: Path, out: TextIO, err: TextIO, sheets: list[str] | None = None) -> int:
     """Print the import summary; list every problem on stderr (exit 2 if there are any)."""
-    estimate = read(path)
-    summary = estimate.summary
+    from fileio.import_summary import summary_lines
+
+    estimate = read(path, sheets)
     print(f"{path.name}: {count(len(estimate.items), 'line item')}", file=out)
-    for key, label in (
-        ("sheet", "sheet"),
-        ("header_row", "header row"),
-        ("rows_read", "rows read"),
-        ("items_taken", "items taken"),
-        ("drafts", "drafts (rows with problems, kept)"),
-    ):
-        if summary.get(key) is not None:
-            value = summary[key]
-            shown = (
-                count(value) if isinstance(value, int) and not isinstance(value, bool) else value
-            )
-            print(f"  {label}: {shown}", file=out)
-    for skipped in summary.get("rows_skipped", []):
-        print(f"  row {skipped['row']} skipped: {skipped['reason']}", file=out)
+    for line in summary_lines(estimate.summary):
+        print(f"  {line}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
     if problems:
         print(f"  {count(len(problems), 'problem')}, listed on stderr", file=out)
@@ -205,7 +212,7 @@ def parse_levels(text: str) -> tuple[float, ...]:
 
 def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     path = Path(args.input)
-    estimate = read(path)
+    estimate = read(path, args.sheet)
     if args.accept_repair:
         estimate.correlation.accept_repair = True
     if args.title is not None:
@@ -233,6 +240,10 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
         print(dumps(analysis, provenance(estimate, settings, path), allocation), file=out)
     elif not args.output:
+        from fileio.import_summary import brief_lines
+
+        for line in brief_lines(estimate.summary):
+            print(line, file=out)
         print_summary(analysis, settings.unit or estimate.unit, out, allocation)
     return OK
 

@@ -10,6 +10,8 @@ import re
 from collections import Counter
 from pathlib import Path
 
+from engine import Problem
+from fileio.csv_structure import FieldTooLarge, csv_records
 from fileio.safety import UnsafeFile, bounded_grid, check_file_size, check_no_nul
 from fileio.table import Table
 
@@ -30,14 +32,13 @@ def read_csv_table(path: Path) -> Table:
     text, encoding = decode(path.read_bytes())
     check_no_nul(text, path)
     delimiter = sniff_delimiter(text)
+    problems: list[Problem] = []
     try:
-        reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
-        records = ((n, [cell.strip() for cell in row]) for n, row in enumerate(reader, start=1))
-        grid = bounded_grid(records, path.name)
-    except csv.Error as why:
+        grid = bounded_grid(csv_records(text, delimiter, problems), path.name)
+    except FieldTooLarge as why:
         # The one error csv raises on decoded text: a cell longer than its field size limit.
         raise UnsafeFile(
-            f"{path.name}, line {reader.line_num:,}: {why}; a cell that long is not part "
+            f"{path.name}, line {why.line:,}: {why}; a cell that long is not part "
             "of an estimate (an unclosed quote mark?). Close the quotes, or export the "
             "estimate as CSV again."
         ) from why
@@ -46,6 +47,7 @@ def read_csv_table(path: Path) -> Table:
         grid=grid,
         source=str(path),
         decimal=decimal,
+        problems=problems,
         notes={
             "encoding": encoding,
             "delimiter": _DELIMITER_NAMES[delimiter],

@@ -151,6 +151,8 @@ def _item_document(item: LineItem) -> dict[str, Any]:
         "shape": _number_out(item.shape),
         "values": [[_number_out(v), _number_out(w)] for v, w in item.values],
         "row": item.row,
+        "sheet": item.sheet,
+        "notes": dict(item.notes),
         "raw": dict(item.raw),
         "read_problems": [p.to_dict() for p in item.read_problems],
     }
@@ -301,6 +303,15 @@ def _item_from(data: Any, number: int) -> LineItem:
         fields_in["row"] = row
     else:
         bad("row", row, "a row number")
+    sheet, notes = data.get("sheet"), data.get("notes", {})
+    if sheet is None or isinstance(sheet, str):
+        fields_in["sheet"] = sheet
+    else:
+        bad("sheet", sheet, "a sheet name")
+    if isinstance(notes, dict) and all(isinstance(v, str) for v in notes.values()):
+        fields_in["notes"] = {str(k): v for k, v in notes.items()}
+    else:
+        bad("notes", notes, "a table of notes by column")
     stored_raw = data.get("raw", {})
     if isinstance(stored_raw, dict) and all(isinstance(v, str) for v in stored_raw.values()):
         raw = {str(k): v for k, v in stored_raw.items()} | raw

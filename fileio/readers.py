@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Collection, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -15,8 +16,9 @@ from fileio.headers import (
     unique_headers,
 )
 from fileio.safety import UnreadableFile
+from fileio.sheet_choice import read_workbook_estimate
 from fileio.table import Table, estimate_from_table
-from fileio.xlsx_reader import read_workbook
+from fileio.xlsx_reader import read_sheet_grid
 
 CSV_SUFFIXES = (".csv", ".tsv", ".txt")
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
@@ -35,11 +37,18 @@ class TablePreview:
 
 
 def read_estimate(
-    path: str | Path, *, mapping: dict[str, str] | None = None, sheet: str | None = None
+    path: str | Path,
+    *,
+    mapping: dict[str, str] | None = None,
+    sheet: str | Sequence[str] | None = None,
+    keep_rows: Collection[tuple[str, int]] = (),
 ) -> Estimate:
     """The estimate in a CSV file, a workbook or a project file.
 
-    A project file's settings come back in `estimate.summary["settings"]`.
+    `sheet` names the workbook's sheet or sheets to read ("all" for every sheet of items;
+    None for the first sheet of items and every risk register); `keep_rows` lists
+    (sheet, row) pairs, sheet "" for a CSV file, to take as items although they read as
+    subtotals. A project file's settings come back in `estimate.summary["settings"]`.
     """
     path = Path(path)
     suffix = path.suffix.lower()
@@ -52,11 +61,12 @@ def read_estimate(
         estimate.summary["settings"] = settings
         return estimate
     if suffix in WORKBOOK_SUFFIXES:
-        read = read_workbook(path, sheet, mapping)
-        estimate = estimate_from_table(read.table, mapping, read.correlation)
-        estimate.read_problems.extend(read.correlation_problems)
+        sheets = [sheet] if isinstance(sheet, str) else sheet
+        estimate = read_workbook_estimate(path, sheets, mapping, keep_rows)
     else:
-        estimate = estimate_from_table(_csv_table(path), mapping)
+        table = _csv_table(path)
+        table.keep_rows = frozenset(r for s, r in keep_rows if not s)
+        estimate = estimate_from_table(table, mapping)
     estimate.title = estimate.title or path.stem
     return estimate
 
@@ -66,8 +76,7 @@ def preview_table(
 ) -> TablePreview:
     path = Path(path)
     if path.suffix.lower() in WORKBOOK_SUFFIXES:
-        read = read_workbook(path, sheet, any_sheet=True)
-        table, sheets = read.table, read.sheets
+        sheets, table = read_sheet_grid(path, sheet or _default_sheet(path))
     else:
         table, sheets = _csv_table(path), []
     # A table whose header is not recognised still previews, from its first non-blank row,
@@ -83,6 +92,14 @@ def preview_table(
         mapping=header.mapping,
         rows=[(list(row) + [""] * width)[: max(width, len(row))] for row in rows],
     )
+
+
+def _default_sheet(path: Path) -> str | None:
+    """The sheet the estimate would be read from first, when any sheet holds items."""
+    try:
+        return read_workbook_estimate(path).summary["sheet"]
+    except UnreadableFile:
+        return None
 
 
 def _first_row_header(grid: list[list[str]]) -> HeaderRow:

@@ -8,7 +8,6 @@ validation's job, not repeated here.
 
 from __future__ import annotations
 
-import re
 from collections.abc import Callable, Collection, Mapping
 
 from engine import LineItem, Problem
@@ -27,10 +26,6 @@ from fileio.cells import (
 
 OPTIONAL_COLUMNS = ("Distribution", "Low %", "High %", "Probability", "Group", "Shape", "Path")
 DEFAULT_SHAPE = 4.0  # the classic Beta-PERT weight on the mode (Malcolm et al. 1959)
-
-_TOTAL_NAME = re.compile(
-    r"(grand\s+|sub-?\s*)?totals?(\s+(cost|costs|estimate|amount))?|sum", re.IGNORECASE
-)
 
 
 def item_from_cells(
@@ -131,6 +126,7 @@ def item_from_cells(
         shape=DEFAULT_SHAPE if shape is None else shape,
         values=values,
         row=row,
+        sheet=sheet,
         raw=raw,
         read_problems=tuple(problems),
     )
@@ -149,8 +145,3 @@ def _implied_family(cells: Mapping[str, str], ml_text: str, text: Callable[[str]
         return "discrete"
     given = [c for c in ("Low", "Most likely", "High") if not is_blank(cells.get(c, ""))]
     return "fixed" if given == ["Most likely"] else "triangular"
-
-
-def is_totals_name(name: str) -> bool:
-    """Item text that labels a totals row: "Total", "Grand total", "Subtotal", "Sum"..."""
-    return bool(_TOTAL_NAME.fullmatch(name.strip().rstrip(":").strip()))

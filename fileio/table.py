@@ -2,7 +2,9 @@
 
 Every row below the header ends up somewhere the user can see it: as a line item (a draft
 when something in it could not be read) or in `summary["rows_skipped"]` with the reason
-(blank, a totals row, a section heading). `rows_read == items_taken + len(rows_skipped)`.
+(blank, a subtotal by label, formula or arithmetic — see `fileio.subtotals` —, a section
+heading). `rows_read == items_taken + len(rows_skipped)`. Every cell of a row that no field
+takes travels with its item as a note, by header (`fileio.column_checks`).
 """
 
 from __future__ import annotations
@@ -13,6 +15,15 @@ from typing import Any
 
 from engine import CorrelationSpec, Estimate, LineItem, Problem
 from engine.validation import item_problems
+from fileio.column_checks import (
+    currency_in_text,
+    currency_problem,
+    duplicate_headers,
+    duplicate_problem,
+    extra_fields_problem,
+    notes_of,
+    stated_currency,
+)
 from fileio.headers import (
     AMOUNT_COLUMNS,
     HEADER_SEARCH_ROWS,
@@ -22,8 +33,16 @@ from fileio.headers import (
     header_percentile,
     says_percent,
 )
-from fileio.rows import is_totals_name, item_from_cells
+from fileio.rows import item_from_cells
 from fileio.safety import UnreadableFile
+from fileio.subtotals import (
+    SectionSums,
+    adding_formula,
+    row_span,
+    sheets_referenced,
+    single_amount,
+    totals_label,
+)
 
 # Columns whose merged cells mean "the same for every row" (a group label down a section);
 # anywhere else a merged cell hides a value the rows below it lack.
@@ -40,11 +59,19 @@ class Table:
     decimal: str | None = None
     # Cells (row index, column index) holding a formula with no saved result.
     formulas: set[tuple[int, int]] = field(default_factory=set)
+    # Every formula cell (row index, column index) -> its formula text, results or not.
+    formula_text: dict[tuple[int, int], str] = field(default_factory=dict)
+    # Sheet rows the user took back as items although they read as subtotals.
+    keep_rows: frozenset[int] = frozenset()
+    # The other sheets read into the same estimate: a row copying their cells is not an item.
+    read_with: frozenset[str] = frozenset()
     # Cells covered by a merge (not its top-left cell) -> (top-left cell, range text).
     merged: dict[tuple[int, int], tuple[tuple[int, int], str]] = field(default_factory=dict)
     # Whether messages name cells as a spreadsheet does ("C5"); CSV rows are named by number.
     cell_references: bool = False
     notes: dict[str, Any] = field(default_factory=dict)
+    # Faults of the file's structure found while reading it (a CSV quote that never closes).
+    problems: list[Problem] = field(default_factory=list)
 
     def header(self, mapping: dict[str, str] | None) -> HeaderRow:
         found = find_header(self.grid, mapping)
@@ -76,7 +103,12 @@ def estimate_from_table(
     last = max((i for i, row in enumerate(grid) if any(row)), default=header.index)
     items: list[LineItem] = []
     skipped: list[dict[str, Any]] = []
+    read_problems: list[Problem] = list(table.problems)
     heading = ""
+    sums = SectionSums()
+    unit = _unit(header) or _unit_in_title_block(grid[: header.index])
+    currency = stated_currency(unit)
+    read_problems += _duplicate_problems(table, header, mapping)
     for index in range(header.index + 1, last + 1):
         row_number = index + 1
         cells_row = grid[index]
@@ -98,6 +130,7 @@ def estimate_from_table(
             continue
         if set(k for k, v in cells.items() if v) == {"Item"}:
             heading = cells["Item"]
+            sums.new_section()
             skipped.append(
                 {
                     "row": row_number,
@@ -120,19 +153,27 @@ def estimate_from_table(
                 else None
             ),
         )
-        if _is_totals_row(item, items):
-            reason = (
-                f"totals row {item.name!r}"
-                if item.name
-                else "totals row (no label; its amounts are the sums of the items above it)"
+        total = (
+            None if row_number in table.keep_rows else _subtotal(table, index, columns, item, sums)
+        )
+        if total is not None:
+            reason, confirm = total
+            skipped.append(
+                {"row": row_number, "reason": reason, "subtotal": True, "confirm": confirm}
             )
-            skipped.append({"row": row_number, "reason": reason})
+            if confirm:
+                read_problems.append(_confirm_problem(table, row_number, item, reason))
+            sums.add_subtotal(row_number, item)
             continue
+        sums.add_item(row_number, item)
         if heading and not item.group:
             item = item.with_changes(group=heading)
-        hidden = _merged_problems(table, index, columns, item)
-        if hidden:
-            item = item.with_changes(read_problems=item.read_problems + hidden)
+        extra = _merged_problems(table, index, columns, item) + _cell_doubts(
+            table, index, columns, item, len(header.headers), currency
+        )
+        notes = notes_of(cells_row, header.headers, set(columns.values()))
+        if extra or notes:
+            item = item.with_changes(read_problems=item.read_problems + extra, notes=notes)
         items.append(item)
 
     summary: dict[str, Any] = {
@@ -150,8 +191,9 @@ def estimate_from_table(
     return Estimate(
         items=items,
         title=_title(grid, header.index),
-        unit=_unit(header.mapping) or _unit_in_title_block(grid[: header.index]),
+        unit=unit,
         source=table.source,
+        read_problems=read_problems,
         summary=summary,
         correlation=correlation or CorrelationSpec(),
     )
@@ -176,19 +218,73 @@ def _implied_percentiles(mapping: dict[str, str]) -> dict[str, str]:
     return implied
 
 
-def _is_totals_row(item: LineItem, taken: list[LineItem]) -> bool:
-    """A totals row by its label, or an unlabelled (or "Total ...") row whose amounts are the
-    sums of the items above it."""
-    if is_totals_name(item.name):
-        return True
-    if (item.name and not item.name.lower().startswith("total")) or len(taken) < 2:
-        return False
-    pairs = [
-        (getattr(item, f), sum(getattr(i, f) or 0.0 for i in taken))
-        for f in ("low", "most_likely", "high")
-        if getattr(item, f) is not None
-    ]
-    return bool(pairs) and all(abs(v - s) <= 1e-9 * max(1.0, abs(s)) for v, s in pairs)
+def _subtotal(
+    table: Table, index: int, columns: dict[str, int], item: LineItem, sums: SectionSums
+) -> tuple[str, bool] | None:
+    """(reason, to confirm) when the row is a total or subtotal (see fileio.subtotals)."""
+    row_number = index + 1
+    label = totals_label(table.grid[index], columns.get("Item", 0))
+    if label is not None and label[1]:
+        return f"subtotal row {label[0]!r} (its label says it is a total)", False
+    for column in ("Low", "Most likely", "High"):
+        i = columns.get(column)
+        formula = table.formula_text.get((index, i)) if i is not None else None
+        copied = {s.lower() for s in sheets_referenced(formula or "")}
+        linked = sorted(s for s in table.read_with if s.lower() in copied)
+        if linked:
+            cell = f"{column_letter(i)}{row_number}"
+            return (
+                f"row {item.name or '(no label)'!r} takes cell {cell} from sheet {linked[0]!r} "
+                f"({formula}), which is read too: counting both would count it twice",
+                False,
+            )
+        rows = adding_formula(formula, row_number) if formula else None
+        if rows:
+            cell = f"{column_letter(i)}{row_number}"
+            return (
+                f"subtotal row {item.name or '(no label)'!r}: cell {cell} holds {formula}, "
+                f"adding {row_span(rows)}",
+                False,
+            )
+    summed = sums.rows_summed_by(item)
+    if label is not None and (summed or sums.all_amounts_summed(item)):
+        return f"subtotal row {label[0]!r} (a Total label, and its amounts are sums)", False
+    if not item.name and sums.all_amounts_summed(item):
+        return "totals row (no label; its amounts are the sums of the items above it)", False
+    if summed and "Distribution" not in {c for c in columns if _text(table, index, columns[c])}:
+        what, rows, given = summed
+        if len(given) == 1:
+            amounts = f"its one amount, {next(iter(given.values())):,.10g}, equals the sum"
+        else:
+            listed = ", ".join(f"{_FIELD_COLUMNS[f]} {v:,.10g}" for f, v in given.items())
+            amounts = f"its amounts ({listed}) equal the sums"
+        return (
+            f"row {item.name!r} looks like a subtotal: {amounts} of {row_span(rows)} above it "
+            f"({what}); left out until you confirm",
+            True,
+        )
+    return None
+
+
+def _text(table: Table, index: int, column: int) -> str:
+    row = table.grid[index]
+    return row[column].strip() if column < len(row) else ""
+
+
+def _confirm_problem(table: Table, row_number: int, item: LineItem, reason: str) -> Problem:
+    return Problem(
+        reason[0].upper() + reason[1:] + ".",
+        "if it is a subtotal, put Subtotal in its label or delete the row; if it is a line "
+        "item, state its Distribution (e.g. fixed) or a Low and High, or take it back as an "
+        "item in the import dialog.",
+        item=item.name,
+        row=row_number,
+        column=_FIELD_COLUMNS[single_amount(item)[0]] if single_amount(item) else None,
+        sheet=table.sheet,
+    )
+
+
+_FIELD_COLUMNS = {"low": "Low", "most_likely": "Most likely", "high": "High"}
 
 
 def _merged_problems(
@@ -212,6 +308,56 @@ def _merged_problems(
             )
         )
     return tuple(problems)
+
+
+def _cell_doubts(
+    table: Table,
+    index: int,
+    columns: dict[str, int],
+    item: LineItem,
+    width: int,
+    currency: str | None,
+) -> tuple[Problem, ...]:
+    """An amount in another currency than the sheet states; a CSV row wider than its header."""
+    problems = []
+    row = table.grid[index]
+    if currency:
+        for column in AMOUNT_COLUMNS:
+            i = columns.get(column)
+            if i is None:
+                continue
+            text = row[i] if i < len(row) else ""
+            cell = (
+                f"cell {column_letter(i)}{index + 1}"
+                if table.cell_references
+                else f"the {column} cell"
+            )
+            found = currency_problem(
+                text, currency, cell, column, index + 1, item.name, table.sheet
+            )
+            if found:
+                problems.append(found)
+    if not table.cell_references:
+        found = extra_fields_problem(row, width, index + 1, item.name)
+        if found:
+            problems.append(found)
+    return tuple(problems)
+
+
+def _duplicate_problems(
+    table: Table, header: HeaderRow, mapping: dict[str, str] | None
+) -> list[Problem]:
+    """A read column whose header names another column too, unless the user chose it."""
+    if mapping:
+        return []
+    read = {header.headers.index(h) for h in header.mapping.values()}
+    return [
+        duplicate_problem(
+            name, cols, next(c for c in cols if c in read), table.sheet, header.index + 1
+        )
+        for name, cols in duplicate_headers(table.grid[header.index]).items()
+        if read & set(cols)
+    ]
 
 
 def _ignored(header: HeaderRow, grid: list[list[str]], last: int) -> list[str]:
@@ -239,6 +385,11 @@ def _unit_in_title_block(rows: list[list[str]]) -> str:
             found = _UNIT_LABEL.search(text) or _UNIT_IN.search(text)
             if found:
                 return found.group(1)
+    for row in rows:
+        for text in row:
+            code = currency_in_text(text)
+            if code:
+                return code
     return ""
 
 
@@ -250,10 +401,14 @@ def _title(grid: list[list[str]], header_index: int) -> str:
     return ""
 
 
-def _unit(mapping: dict[str, str]) -> str:
-    """A unit in an amount header's brackets: `Low (EUR)`, `Most likely [days]`."""
+def _unit(header: HeaderRow) -> str:
+    """A unit in an amount header's brackets: `Low (EUR)`, `Most likely [days]`; not the
+    column letter that tells two same-named headers apart (`High (E)`)."""
     for column in AMOUNT_COLUMNS:
-        found = re.search(r"[(\[]\s*([^()\[\]]+?)\s*[)\]]", mapping.get(column, ""))
-        if found and header_percentile(found.group(1)) is None:
+        name = header.mapping.get(column, "")
+        found = re.search(r"[(\[]\s*([^()\[\]]+?)\s*[)\]]", name)
+        if not found or header_percentile(found.group(1)) is not None:
+            continue
+        if found.group(1) != column_letter(header.headers.index(name)):
             return found.group(1)
     return ""

@@ -49,58 +49,98 @@ _NOT_LINE_ITEMS = frozenset(
 _MERGE_TAG = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}mergeCell"
 
 
-class _NoItemSheet(UnreadableFile):
-    """No sheet (or not the one asked for) holds line items."""
+@dataclass
+class SheetRead:
+    """One sheet of the workbook: what it holds and, when it has a header row, its table."""
+
+    name: str
+    hidden: bool
+    # "items" (a header row of line items), "words" (a notes or help sheet by its name),
+    # "correlations", "chart" (a chart sheet), "empty", or "no header".
+    kind: str
+    table: Table | None = None
+    # The mapping given by the caller names headers this sheet has.
+    mapped: bool = False
 
 
 @dataclass
 class WorkbookRead:
-    table: Table
-    sheets: list[str]
+    sheets: list[SheetRead]
     correlation: CorrelationSpec
     correlation_problems: list[Problem]
 
+    @property
+    def names(self) -> list[str]:
+        return [s.name for s in self.sheets]
 
-def read_workbook(
-    path: Path,
-    sheet: str | None = None,
-    mapping: dict[str, str] | None = None,
-    *,
-    any_sheet: bool = False,
-) -> WorkbookRead:
-    """The chosen sheet (or the first that looks like line items) and the Correlations sheet.
+    def find(self, name: str) -> SheetRead | None:
+        """The sheet by its name; spaces around it and letter case do not matter."""
+        exact = next((s for s in self.sheets if s.name == name), None)
+        wanted = name.strip().lower()
+        return exact or next((s for s in self.sheets if s.name.strip().lower() == wanted), None)
 
-    `any_sheet` falls back to the first sheet when none looks like line items (the import
-    dialog's preview, where the user then maps the columns by hand).
-    """
+
+def read_workbook(path: Path, mapping: dict[str, str] | None = None) -> WorkbookRead:
+    """Every sheet surveyed, every sheet with a header row read whole (formulas too), and the
+    Correlations sheet. Chart sheets and empty sheets are listed, never fatal."""
     check_workbook(path)
-    with _open(path, data_only=True) as book:
-        sheets = list(book.sheetnames)
-        try:
-            name = _choose_sheet(book, path, sheet, mapping)
-        except _NoItemSheet:
-            if not any_sheet or sheet is not None or not sheets:
-                raise
-            name = sheets[0]
-        ws = _sheet(book, name, path)
-        grid = _grid(ws, path)
-        merged = _merged_cells(ws, path, grid)
-        spec, problems = CorrelationSpec(), []
-        corr_name = next((s for s in sheets if s.lower() == CORRELATION_SHEET.lower()), None)
-        if corr_name is not None:
-            spec, problems = spec_from_grid(_grid(_sheet(book, corr_name, path), path), corr_name)
-    formulas = _formulas_without_results(path, name, grid)
-    for (r, c), formula in formulas.items():
-        grid[r][c] = formula
-    table = Table(
+    sheets: list[SheetRead] = []
+    spec, problems = CorrelationSpec(), []
+    with _open(path, data_only=True) as book, _open(path, data_only=False) as formula_book:
+        for name in book.sheetnames:
+            ws = _sheet(book, name, path)
+            hidden = getattr(ws, "sheet_state", "visible") != "visible"
+            if not hasattr(ws, "_get_source"):  # a chart sheet: a picture, no cells
+                sheets.append(SheetRead(name, hidden, "chart"))
+                continue
+            top = _grid(ws, path, last_row=HEADER_SEARCH_ROWS)
+            if name.lower() == CORRELATION_SHEET.lower():
+                spec, problems = spec_from_grid(_grid(ws, path), name)
+                sheets.append(SheetRead(name, hidden, "correlations"))
+                continue
+            if not any(any(row) for row in top):
+                sheets.append(SheetRead(name, hidden, "empty" if not top else "no header"))
+                continue
+            words = name.strip().lower() in _NOT_LINE_ITEMS
+            mapped = bool(mapping) and find_header(top, mapping) is not None
+            if not mapped and find_header(top) is None:
+                sheets.append(SheetRead(name, hidden, "words" if words else "no header"))
+                continue
+            kind = "words" if words else "items"
+            table = _table(ws, _sheet(formula_book, name, path), path)
+            sheets.append(SheetRead(name, hidden, kind, table, mapped))
+    return WorkbookRead(sheets, spec, problems)
+
+
+def read_sheet_grid(path: Path, sheet: str | None) -> tuple[list[str], Table]:
+    """The sheet names and one sheet as a table, whether or not it has a header row (the
+    import dialog's preview, where the user may map the columns by hand)."""
+    check_workbook(path)
+    with _open(path, data_only=True) as book, _open(path, data_only=False) as formula_book:
+        names = list(book.sheetnames)
+        worksheets = [n for n in names if hasattr(_sheet(book, n, path), "_get_source")]
+        if not worksheets:
+            raise UnreadableFile(f"{path.name} has no worksheet, only charts.")
+        name = sheet if sheet in worksheets else worksheets[0]
+        return names, _table(_sheet(book, name, path), _sheet(formula_book, name, path), path)
+
+
+def _table(ws: Any, formula_ws: Any, path: Path) -> Table:
+    grid = _grid(ws, path)
+    merged = _merged_cells(ws, path, grid)
+    formula_text = _formulas(formula_ws, path)
+    formulas = _without_results(formula_text, grid)
+    for r, c in formulas:
+        grid[r][c] = formula_text[(r, c)]
+    return Table(
         grid=grid,
         source=str(path),
-        sheet=name,
-        formulas=set(formulas),
+        sheet=ws.title,
+        formulas=formulas,
+        formula_text=formula_text,
         merged=merged,
         cell_references=True,
     )
-    return WorkbookRead(table, sheets, spec, problems)
 
 
 def cell_text(cell: Any) -> str:
@@ -223,48 +263,23 @@ def _grid(
     return bounded_grid(rows(), f"sheet {ws.title!r} of {path.name}")
 
 
-def _choose_sheet(book: Any, path: Path, sheet: str | None, mapping: dict[str, str] | None) -> str:
-    names = list(book.sheetnames)
-    if sheet is not None:
-        if sheet in names:
-            return sheet
-        matches = [n for n in names if n.lower() == sheet.strip().lower()]
-        if matches:
-            return matches[0]
-        raise _NoItemSheet(
-            f"{path.name} has no sheet {sheet!r}; its sheets are: {', '.join(names)}."
-        )
-    for name in names:
-        if name.strip().lower() in _NOT_LINE_ITEMS:
-            continue
-        ws = _sheet(book, name, path)
-        top = _grid(ws, path, last_row=HEADER_SEARCH_ROWS)
-        if find_header(top, mapping) is not None:
-            return name
-    if mapping:
-        wanted = ", ".join(repr(h) for h in mapping.values() if h.strip())
-        raise _NoItemSheet(
-            f"the mapping names headers ({wanted}) that no sheet of {path.name} has in one row; "
-            "choose the columns again in the import dialog."
-        )
-    raise _NoItemSheet(
-        f"no sheet of {path.name} looks like a list of line items (sheets: {', '.join(names)}): "
-        "none has a header row naming an Item column and Low, Most likely or High columns. "
-        "Choose the sheet and its columns in the import dialog."
-    )
+def _formulas(formula_ws: Any, path: Path) -> dict[tuple[int, int], str]:
+    """Every formula of the sheet by cell: the value view shows only results, and a subtotal
+    is known by its formula (=SUM(D5:D9)) whether or not a result was saved."""
+    grid = _grid(formula_ws, path, text=_formula_text)
+    return {
+        (r, c): text
+        for r, row in enumerate(grid)
+        for c, text in enumerate(row)
+        if text.startswith("=")
+    }
 
 
-def _formulas_without_results(
-    path: Path, sheet: str, grid: list[list[str]]
-) -> dict[tuple[int, int], str]:
-    found = {}
-    with _open(path, data_only=False) as book:
-        formulas = _grid(_sheet(book, sheet, path), path, text=_formula_text)
-    for r, row in enumerate(formulas):
-        for c, formula in enumerate(row):
-            blank = r >= len(grid) or c >= len(grid[r]) or not grid[r][c]
-            if formula.startswith("=") and blank:
-                found[(r, c)] = formula
+def _without_results(
+    formulas: dict[tuple[int, int], str], grid: list[list[str]]
+) -> set[tuple[int, int]]:
+    """Formula cells with no saved result; the grid is widened to hold their text."""
+    found = {(r, c) for (r, c) in formulas if r >= len(grid) or c >= len(grid[r]) or not grid[r][c]}
     for r, c in found:
         while len(grid) <= r:
             grid.append([])

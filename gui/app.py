@@ -23,7 +23,7 @@ def _without_offscreen_noise(mode: object, context: object, message: str) -> Non
         print(message, file=sys.stderr)
 
 
-def run(path: str | None, screenshot: str | None) -> int:
+def run(path: str | None, screenshot: str | None, sheets: list[str] | None = None) -> int:
     """Open the window on `path` (the demo when None); with `screenshot`, save a PNG of the
     window once the first result is shown, and exit."""
     if screenshot:
@@ -64,7 +64,7 @@ def run(path: str | None, screenshot: str | None) -> int:
 
         window.result_shown.connect(lambda: QTimer.singleShot(300, save))
         QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, give_up)
-    opened = window.open_path(path, interactive=not screenshot) if path else None
+    opened = window.open_path(path, interactive=not screenshot, sheets=sheets) if path else None
     if path and not opened and screenshot:
         return 2
     if not path:

@@ -197,6 +197,9 @@ class ItemTableModel(QAbstractTableModel):
                 return "\n".join(messages)
             if column == "Probability" and item.is_risk_event:
                 return "Risk event: costs nothing when it does not occur."
+            if column == "Item":
+                whole = item.name if len(item.name) > LONG_CELL else ""
+                return "\n".join(t for t in (whole, source_tooltip(item)) if t) or None
             if column in EDIT_COLUMNS and len(display_cells(item)[column]) > LONG_CELL:
                 return display_cells(item)[column]  # whole, where the cell elides it
             return None
@@ -247,8 +250,22 @@ def item_from_text(cells: dict[str, str], previous: LineItem | None = None) -> L
     """A row of cell texts to an item with the importer's validation (fileio.rows)."""
     from fileio.rows import item_from_cells
 
-    row = previous.row if previous is not None else None
-    return item_from_cells(cells, row, None)
+    if previous is None:
+        return item_from_cells(cells, None, None)
+    # The source and the notes stay with the item through edits.
+    edited = item_from_cells(cells, previous.row, previous.sheet)
+    return edited.with_changes(notes=dict(previous.notes), paths=previous.paths)
+
+
+def source_tooltip(item: LineItem) -> str | None:
+    """Where the item was read from and the notes kept from the columns not mapped."""
+    lines = []
+    if item.row is not None:
+        lines.append(
+            f"From {'sheet ' + repr(item.sheet) + ', ' if item.sheet else ''}row {item.row}"
+        )
+    lines += [f"{header}: {text}" for header, text in item.notes.items()]
+    return "\n".join(lines) or None
 
 
 def _contiguous(rows: list[int]) -> bool:

@@ -362,8 +362,11 @@ class MainWindow(QMainWindow):
         if path:
             self.open_path(path)
 
-    def open_path(self, path: str | Path, interactive: bool = True) -> bool:
-        """Open a project file, or a spreadsheet through the import dialog (interactive)."""
+    def open_path(
+        self, path: str | Path, interactive: bool = True, sheets: list[str] | None = None
+    ) -> bool:
+        """Open a project file, or a spreadsheet through the import dialog (interactive);
+        `sheets` as `rangefold gui --sheet` gives them."""
         from fileio.project import PROJECT_SUFFIX, load_project
 
         path = Path(path)
@@ -372,7 +375,7 @@ class MainWindow(QMainWindow):
                 estimate, settings = load_project(path)
                 self.set_document(estimate, settings, path)
             else:
-                estimate = self._read_spreadsheet(path, interactive)
+                estimate = self._read_spreadsheet(path, interactive, sheets)
                 if estimate is None:
                     return False
                 self.set_document(estimate, Settings(unit=estimate.unit or ""), None, str(path))
@@ -382,14 +385,16 @@ class MainWindow(QMainWindow):
         self._add_recent(path)
         return True
 
-    def _read_spreadsheet(self, path: Path, interactive: bool) -> Estimate | None:
+    def _read_spreadsheet(
+        self, path: Path, interactive: bool, sheets: list[str] | None = None
+    ) -> Estimate | None:
         if not interactive:
             from engine import read_estimate
 
-            return read_estimate(path)
+            return read_estimate(path, sheet=sheets)
         from gui.import_dialog import ImportDialog
 
-        dialog = ImportDialog(path, self)
+        dialog = ImportDialog(path, self, sheets)
         if dialog.exec() != ImportDialog.DialogCode.Accepted or dialog.estimate is None:
             return None
         return dialog.estimate

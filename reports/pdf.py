@@ -24,6 +24,7 @@ from engine.allocation import Allocation
 from reports import content
 from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
+from reports.import_provenance import import_lines
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
@@ -286,6 +287,7 @@ def report_pages(
 
         pages += allocation_pages(allocation, about["unit"], paper, footer)
     pages += _item_pages(estimate, paper, footer)
+    pages += _import_pages(estimate, paper, footer)
     dependence = content.dependence_of(analysis)
     if dependence is not None:
         pages.append(_dependence_page(dependence, paper, footer))
@@ -407,6 +409,19 @@ def _item_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:
             page.text(f"[{k}] {row[0]}: {row[ml]}", size=7)
         pages.append(page)
     return pages
+
+
+def _import_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:
+    """The rows, sheets and columns the import left out, in `rangefold check`'s words."""
+    lines = import_lines(estimate)
+    if not lines:
+        return []
+    flow = Flow(paper, footer)
+    flow.text("What the import read and left out", size=14, weight="bold")
+    flow.gap()
+    for line in lines:
+        flow.text(line[0].upper() + line[1:], size=8)
+    return flow.pages
 
 
 def _noted(row: list[Any], discrete: list[list[Any]], ml: int) -> list[Any]:

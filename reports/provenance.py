@@ -11,6 +11,7 @@ from typing import Any
 
 from engine import Estimate, Settings
 from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
+from reports.item_sources import item_records
 
 PYPROJECT = Path(__file__).resolve().parents[1] / "pyproject.toml"
 
@@ -53,6 +54,7 @@ def provenance(
         "input_file": path.name if path else None,
         "input_sha256": sha256_of(path) if path else None,
         "import_summary": _jsonable_summary(estimate.summary),
+        "items": item_records(estimate),
         "settings": settings.to_dict(),
         "caution": CAUTION,
         "normal_shortcut": NORMAL_SHORTCUT_GLOSS,

@@ -19,6 +19,8 @@ from fileio.cells import FORMULA_STARTS
 from reports import content
 from reports.caution import NORMAL_SHORTCUT_GLOSS
 from reports.content import Kind, Table
+from reports.import_provenance import write_import_sheet
+from reports.item_sources import with_sources
 
 FORMATS: dict[Kind, str] = {
     "money": "#,##0",
@@ -86,7 +88,7 @@ def write_xlsx(
     summary = book.active
     summary.title = "Summary"
     _summary_sheet(summary, analysis, about)
-    _data_sheet(book, "Items", content.item_table(estimate))
+    _data_sheet(book, "Items", with_sources(content.item_table(estimate), estimate))
     drivers = _data_sheet(book, "Drivers", content.driver_table(analysis))
     percentiles = _data_sheet(book, "Percentiles", content.percentile_table(analysis))
     _charts_sheet(book, analysis, drivers, percentiles, about["unit"])
@@ -94,6 +96,7 @@ def write_xlsx(
         from reports.allocation_xlsx import allocation_sheets
 
         allocation_sheets(book, allocation)
+    write_import_sheet(book, estimate)
     dependence = content.dependence_of(analysis)
     if dependence is not None:
         _dependence_sheet(book, dependence)

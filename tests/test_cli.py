@@ -169,11 +169,18 @@ def test_gui_is_called_lazily(monkeypatch):
 
     calls = []
     monkeypatch.setattr(
-        gui.app, "run", lambda path, screenshot: calls.append((path, screenshot)) or 0
+        gui.app,
+        "run",
+        lambda path, screenshot, sheets=None: calls.append((path, screenshot, sheets)) or 0,
     )
     assert main([]) == 0
     assert main(["gui", "estimate.xlsx", "--screenshot", "shot.png"]) == 0
-    assert calls == [(None, None), ("estimate.xlsx", "shot.png")]
+    assert main(["gui", "estimate.xlsx", "--sheet", "Plan", "--sheet", "Risks"]) == 0
+    assert calls == [
+        (None, None, None),
+        ("estimate.xlsx", "shot.png", None),
+        ("estimate.xlsx", None, ["Plan", "Risks"]),
+    ]
 
 
 def test_module_entry_point_never_shows_a_traceback(tmp_path):

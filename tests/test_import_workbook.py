@@ -48,7 +48,7 @@ def office_workbook(tmp_path: Path) -> Path:
     ws["A2"] = "Prepared for the steering group; currency: EUR"
     ws.append([])
     ws.append(["Description", "Optimistic", "Likely", "Pessimistic", "Chance", "Category"])
-    ws.append(["Demolition", "$12,500", "$14,000", "$19,000", None, "Site"])
+    ws.append(["Demolition", "€12,500", "EUR 14,000", "19,000 EUR", None, "Site"])
     ws.append(["Roof repair", 8000, 9500, 15000, None, "Building"])
     ws.append([])
     ws.append(["Counter joinery", "12 500 €", "13 000 €", "€16.250,50", None, "Fit-out"])
@@ -82,8 +82,14 @@ def test_title_block_own_names_currency_spacers_totals(office_workbook: Path) ->
     assert summary["rows_read"] == 6
     assert summary["items_taken"] == 4
     assert summary["rows_skipped"] == [
-        {"row": 7, "reason": "blank row"},
-        {"row": 10, "reason": "totals row 'Total'"},
+        {"sheet": "Costs", "row": 7, "reason": "blank row"},
+        {
+            "sheet": "Costs",
+            "row": 10,
+            "reason": "subtotal row 'Total' (its label says it is a total)",
+            "subtotal": True,
+            "confirm": False,
+        },
     ]
     assert summary["rows_read"] == summary["items_taken"] + len(summary["rows_skipped"])
     # Flood damage's Low below 0 is a valid range (a saving) but triangular needs Low <= ML:
@@ -327,5 +333,5 @@ def test_preview(office_workbook: Path) -> None:
         "Category",
     ]
     assert preview.mapping["High"] == "Pessimistic"
-    assert preview.rows[0] == ["Demolition", "$12,500", "$14,000", "$19,000", "", "Site"]
+    assert preview.rows[0] == ["Demolition", "€12,500", "EUR 14,000", "19,000 EUR", "", "Site"]
     assert len(preview.rows) == 3 and preview.rows[2] == [""] * 6

@@ -33,7 +33,7 @@ SCENARIOS = {s.stem: s for s in tool.SCENARIOS}
 
 
 def without_row(items):
-    return [dataclasses.replace(i, row=None) for i in items]
+    return [dataclasses.replace(i, row=None, sheet=None) for i in items]
 
 
 @pytest.mark.parametrize("stem", SCENARIOS)
@@ -44,7 +44,10 @@ def test_workbook_reads_as_the_scenario(stem):
     assert got.problems == []
     assert got.items == want.items  # rows too: the header sits below the title block
     assert got.summary["header_row"] == tool.header_row()
-    assert got.summary["rows_skipped"] == []
+    # Only the cost plan's section headings and subtotals are left out.
+    left_out = {(e["sheet"], e["row"]) for e in got.summary["rows_skipped"]}
+    plan = tool.plan_rows(scenario)
+    assert left_out == {(tool.ESTIMATE_SHEET, p.number) for p in plan if p.kind != "item"}
     assert got.title == scenario.title
     assert got.correlation.pairs == want.correlation.pairs
     assert got.correlation.groups == want.correlation.groups
@@ -85,6 +88,28 @@ def test_template_explains_every_column_and_reads_empty():
     assert set(COLUMNS) <= explained
     estimate = read_estimate(path)
     assert estimate.items == [] and estimate.problems == []
+
+
+def test_demo_keeps_typed_and_formula_subtotals_and_its_register_apart():
+    """The demo shows the import leaving subtotals out and adding the register sheet."""
+    values = load_workbook(DEMO_WORKBOOK, data_only=True)[tool.ESTIMATE_SHEET]
+    formulas = load_workbook(DEMO_WORKBOOK)[tool.ESTIMATE_SHEET]
+    subtotals = [p for p in tool.plan_rows(tool.PLANT) if "subtotal" in p.kind]
+    assert {p.kind for p in subtotals} == {"typed subtotal", "formula subtotal"}
+    for p in subtotals:
+        assert values[f"D{p.number}"].value == p.value  # a saved result, formulas too
+        if p.kind == "formula subtotal":
+            assert formulas[f"D{p.number}"].value == p.formula
+    estimate = read_estimate(DEMO_WORKBOOK)
+    reasons = {e["row"]: e["reason"] for e in estimate.summary["rows_skipped"] if e.get("subtotal")}
+    assert set(reasons) == {p.number for p in subtotals}
+    for p in subtotals:
+        assert ("holds =SUM(" in reasons[p.number]) == (p.kind == "formula subtotal")
+    read = [s["name"] for s in estimate.summary["sheets_read"]]
+    assert read == [tool.ESTIMATE_SHEET, tool.REGISTER_SHEET]
+    register = [i for i in estimate.items if i.sheet == tool.REGISTER_SHEET]
+    assert len(register) == 5 and all(i.is_risk_event for i in register)
+    assert [i.notes["Owner"] for i in register] == list(tool.OWNERS)
 
 
 def test_demo_is_the_one_that_fails_at_p90():

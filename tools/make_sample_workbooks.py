@@ -7,7 +7,9 @@ checks with engine.analyze that it still does. Every name and number here is inv
 from __future__ import annotations
 
 import csv
+import re
 import sys
+import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -40,10 +42,13 @@ class Scenario:
     rows: tuple[Row, ...]
     pairs: tuple[tuple[str, str, float], ...] = ()
     groups: dict[str, float] = field(default_factory=dict)
+    # Laid out as a cost plan: a heading and a subtotal for each group (typed and formula
+    # subtotals by turns), the risk events on a sheet of their own with an Owner column.
+    cost_plan: bool = False
 
     def estimate(self) -> Estimate:
         """The estimate the workbook stands for, built directly (tests compare the import)."""
-        items = [_item(row, header_row() + 1 + k) for k, row in enumerate(self.rows)]
+        items = [_item(row, number, sheet) for sheet, number, row in placed_items(self)]
         spec = CorrelationSpec(
             # Row numbers as on the Correlations sheet, below its header.
             pairs=[CorrelationPair(a, b, c, row=k) for k, (a, b, c) in enumerate(self.pairs, 2)],
@@ -52,7 +57,7 @@ class Scenario:
         return Estimate(items=items, title=self.title, unit=self.unit, correlation=spec)
 
 
-def _item(row: Row, number: int) -> LineItem:
+def _item(row: Row, number: int, sheet: str | None = None) -> LineItem:
     name, family, low, ml, high, low_pct, high_pct, probability, group, *path = row
     discrete = family == "discrete"
     return LineItem(
@@ -68,6 +73,7 @@ def _item(row: Row, number: int) -> LineItem:
         paths=path_names(path[0]) if path else (),
         values=tuple(ml) if discrete else (),
         row=number,
+        sheet=sheet,
     )
 
 
@@ -169,6 +175,7 @@ PLANT = Scenario(
         ("Detailed design, process and piping", "Piping prefabrication", 0.3),
     ),
     groups={"Electrical and instrumentation": 0.4},
+    cost_plan=True,
 )
 
 SCHEDULE = Scenario(
@@ -323,11 +330,79 @@ def response_plan_pair() -> tuple[Scenario, Scenario]:
 
 
 RESPONSE_PLAN = response_plan_pair()
+ESTIMATE_SHEET = "Estimate"
+REGISTER_SHEET = "Risk register"
+REGISTER_HEADER_ROW = 3
+# Who looks after each risk event, kept by the import as the items' notes.
+OWNERS = ("Inspection lead", "Civil lead", "Shutdown planner", "Procurement lead", "Permitting")
 
 
 def header_row() -> int:
     """Title, two note lines and a blank line sit above the header."""
     return 5
+
+
+@dataclass(frozen=True)
+class PlanRow:
+    """A row of the Estimate sheet: a heading, an item, or a subtotal (typed or a formula)."""
+
+    kind: str  # "heading", "item", "typed subtotal", "formula subtotal"
+    number: int
+    row: Row | None = None
+    label: str = ""
+    value: float = 0.0
+    formula: str = ""
+
+
+def plan_rows(scenario: Scenario) -> list[PlanRow]:
+    """The Estimate sheet's rows below the header, headings and subtotals included."""
+    number = header_row()
+    if not scenario.cost_plan:
+        return [PlanRow("item", number + 1 + k, row) for k, row in enumerate(scenario.rows)]
+    rows: list[PlanRow] = []
+    sections: dict[str, list[Row]] = {}
+    for row in scenario.rows:
+        if row[7] is None:  # no probability: a base item, on the plan
+            sections.setdefault(row[8], []).append(row)
+    for k, (group, members) in enumerate(sections.items()):
+        number += 1
+        rows.append(PlanRow("heading", number, label=group))
+        first = number + 1
+        for row in members:
+            number += 1
+            rows.append(PlanRow("item", number, row))
+        base = sum(r[3] for r in members if isinstance(r[3], int | float))
+        if not base:
+            continue
+        number += 1
+        if k % 2 == 0:
+            rows.append(
+                PlanRow("typed subtotal", number, label=f"Subtotal {group.lower()}", value=base)
+            )
+        else:
+            formula = f"=SUM(D{first}:D{number - 1})"
+            rows.append(
+                PlanRow(
+                    "formula subtotal",
+                    number,
+                    label=f"Total {group.lower()}",
+                    value=base,
+                    formula=formula,
+                )
+            )
+    return rows
+
+
+def register_rows(scenario: Scenario) -> list[Row]:
+    return [r for r in scenario.rows if r[7] is not None] if scenario.cost_plan else []
+
+
+def placed_items(scenario: Scenario) -> list[tuple[str, int, Row]]:
+    """(sheet, row number, row) of every item, in the order the import reads them."""
+    placed = [(ESTIMATE_SHEET, p.number, p.row) for p in plan_rows(scenario) if p.kind == "item"]
+    start = REGISTER_HEADER_ROW + 1
+    placed += [(REGISTER_SHEET, start + k, r) for k, r in enumerate(register_rows(scenario))]
+    return placed
 
 
 def cell_values(row: Row) -> list:
@@ -349,16 +424,32 @@ def write_workbook(scenario: Scenario, path: Path) -> None:
     for col, name in enumerate(COLUMNS, start=1):
         sheet.cell(row=top, column=col, value=name).font = Font(bold=True)
     money = "#,##0" if scenario.unit != "working days" else "0"
-    for r, row in enumerate(scenario.rows, start=top + 1):
-        for col, value in enumerate(cell_values(row), start=1):
-            cell = sheet.cell(row=r, column=col, value=value)
-            if col in (3, 4, 5) and isinstance(value, int | float):
-                cell.number_format = money
-            if col == 8 and value is not None:
-                cell.number_format = "0%"
+    results = {}
+    for placed in plan_rows(scenario):
+        r = placed.number
+        if placed.kind == "item":
+            _write_row(sheet, r, cell_values(placed.row), money)
+        else:
+            sheet.cell(row=r, column=1, value=placed.label).font = Font(bold=True)
+        if placed.kind == "typed subtotal":
+            sheet.cell(row=r, column=4, value=placed.value).number_format = money
+        if placed.kind == "formula subtotal":
+            sheet.cell(row=r, column=4, value=placed.formula).number_format = money
+            results[f"D{r}"] = placed.value
     for col, width in enumerate((52, 13, 13, 34, 13, 8, 8, 12, 30, 40), start=1):
         sheet.column_dimensions[get_column_letter(col)].width = width
     sheet.freeze_panes = sheet.cell(row=top + 1, column=2)
+    if register_rows(scenario):
+        register = book.create_sheet(REGISTER_SHEET)
+        register["A1"] = f"Risk register - {scenario.title.split(' - ')[-1]}"
+        register["A1"].font = Font(bold=True, size=14)
+        for col, name in enumerate((*COLUMNS, "Owner"), start=1):
+            register.cell(row=REGISTER_HEADER_ROW, column=col, value=name).font = Font(bold=True)
+        for k, row in enumerate(register_rows(scenario)):
+            values = [*cell_values(row), OWNERS[k % len(OWNERS)]]
+            _write_row(register, REGISTER_HEADER_ROW + 1 + k, values, money)
+        for col, width in enumerate((52, 13, 13, 34, 13, 8, 8, 12, 16, 12, 20), start=1):
+            register.column_dimensions[get_column_letter(col)].width = width
     if scenario.pairs or scenario.groups:
         corr = book.create_sheet("Correlations")
         corr.append(["Item A", "Item B", "Coefficient"])
@@ -369,6 +460,36 @@ def write_workbook(scenario: Scenario, path: Path) -> None:
         for col, width in ((1, 44), (2, 44), (3, 12)):
             corr.column_dimensions[get_column_letter(col)].width = width
     book.save(path)
+    _save_results(path, results)
+
+
+def _write_row(sheet, r: int, values: list, money: str) -> None:
+    for col, value in enumerate(values, start=1):
+        cell = sheet.cell(row=r, column=col, value=value)
+        if col in (3, 4, 5) and isinstance(value, int | float):
+            cell.number_format = money
+        if col == 8 and value is not None:
+            cell.number_format = "0%"
+
+
+def _save_results(path: Path, results: dict[str, float]) -> None:
+    """Give the first sheet's formulas their results, as a spreadsheet program saves them
+    (openpyxl writes formulas without one), so the demo reads like a file saved by hand."""
+    if not results:
+        return
+    with zipfile.ZipFile(path) as src:
+        parts = [(info, src.read(info)) for info in src.infolist()]
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info, data in parts:
+            if info.filename == "xl/worksheets/sheet1.xml":
+                xml = data.decode("utf-8")
+                for cell, value in results.items():
+                    xml, count = re.subn(
+                        rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)<v\s*/>', rf"\g<1><v>{value:g}</v>", xml
+                    )
+                    assert count == 1, f"formula cell {cell} not found"
+                data = xml.encode("utf-8")
+            dst.writestr(info, data)
 
 
 def write_template(path: Path) -> None:
