@@ -178,6 +178,10 @@ def parse_levels(text: str) -> tuple[float, ...]:
 
 def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     path = Path(args.input)
+    if args.output:
+        from fileio.output_guard import refuse_overwriting_inputs
+
+        refuse_overwriting_inputs(args.output, [path])
     estimate = read(path)
     if args.accept_repair:
         estimate.correlation.accept_repair = True
