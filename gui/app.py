@@ -64,12 +64,12 @@ def run(path: str | None, screenshot: str | None) -> int:
 
         window.result_shown.connect(lambda: QTimer.singleShot(300, save))
         QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, give_up)
-    opened = window.open_path(path, interactive=not screenshot) if path else None
+    opened = window.document.open_path(path, interactive=not screenshot) if path else None
     if path and not opened and screenshot:
         return 2
     if not path:
         window.open_demo()
     if not screenshot:
-        window.offer_recovery()
+        window.document.offer_recovery()
     code = app.exec()
     return outcome["code"] or code
