@@ -10,6 +10,7 @@ returns nothing, so the window and its edits stay as they were. The window is re
 from __future__ import annotations
 
 import os
+import sys
 from collections.abc import Callable
 from pathlib import Path
 from typing import Any, Protocol, TypeVar
@@ -65,7 +66,7 @@ class Prompts:
 
     def warn(self, title: str, message: str) -> None:
         if self.silent:
-            print(f"rangefold: {title}: {message}", flush=True)
+            print(" ".join(f"rangefold: {title}: {message}".split()), file=sys.stderr, flush=True)
             return
         QMessageBox.warning(self.parent, title, message)
 
@@ -75,6 +76,8 @@ class Prompts:
 
     def ask_unsaved(self) -> str:
         """'save', 'discard' or 'cancel'."""
+        if self.silent:
+            return "discard"
         buttons = QMessageBox.StandardButton
         answer = QMessageBox.question(
             self.parent,
@@ -86,6 +89,8 @@ class Prompts:
         return {buttons.Save: "save", buttons.Discard: "discard"}.get(answer, "cancel")
 
     def ask_recover(self, where: str) -> bool:
+        if self.silent:
+            return False
         buttons = QMessageBox.StandardButton
         answer = QMessageBox.question(
             self.parent,
@@ -177,7 +182,8 @@ class Document(QObject):
         try:
             return work()
         except Exception as error:  # every failure, so nothing the user made is lost
-            where = f"{path}: " if path and str(path) not in str(error) else ""
+            named = path is None or Path(path).name in str(error)
+            where = "" if named else f"{path}: "
             self.prompts.warn(title, f"{where}{failure_text(error)}")
             return None
 

@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 
 from engine import Estimate, Settings
 from gui.document import Document, Prompts
+from gui.empty_state import empty_estimate_text
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
 from gui.item_table import ItemTableView
@@ -58,7 +59,7 @@ def default_recovery_dir() -> Path:
 
 
 class MainWindow(QMainWindow):
-    # The first analysis shown (used by --screenshot to know the window is ready).
+    # Figures or the message in their place are on screen (--screenshot waits for this).
     result_shown = Signal()
 
     def __init__(
@@ -283,9 +284,11 @@ class MainWindow(QMainWindow):
 
     def _connect(self) -> None:
         self.model.items_changed.connect(self._items_changed)
-        self.undo_stack.cleanChanged.connect(lambda _clean: self._update_title())
+        # Bound methods, not lambdas: Qt drops them when the window is deleted, while a lambda
+        # would still run on the undo stack's last signal at exit and meet a deleted window.
+        self.undo_stack.cleanChanged.connect(self._update_title)
         self.settings_panel.changed.connect(self._settings_changed)
-        self.table.selectionModel().currentRowChanged.connect(lambda *_: self._show_preview())
+        self.table.selectionModel().currentRowChanged.connect(self._show_preview)
         self.table.paste_failed.connect(self._paste_failed)
         self.recomputer.started.connect(self._compute_started)
         self.recomputer.progress.connect(self._compute_progress)
@@ -448,13 +451,16 @@ class MainWindow(QMainWindow):
         if not estimate.items:
             self.recomputer.cancel()
             self.last_outcome = None
-            self.last_problem = (
-                "No row can be used yet: add line items or fix the marked cells."
-                if self.estimate.items
-                else "The estimate has no line items yet: add a row or open a file."
-            )
-            self.results.show_problem(self.last_problem)
+            if self.estimate.items:
+                self.last_problem = (
+                    "No row can be used yet: add line items or fix the marked cells."
+                )
+                self.results.show_problem(self.last_problem)
+            else:
+                self.last_problem = empty_estimate_text()
+                self.results.show_problem(self.last_problem, chart_message=self.last_problem)
             self.compute_label.setText("")
+            self.result_shown.emit()
             return
         self.recomputer.request(estimate, self.settings)
         if now:
@@ -498,13 +504,14 @@ class MainWindow(QMainWindow):
         self.last_problem = message
         self.results.show_problem(message)
         self.compute_label.setText("Not computed: see the message above the charts")
+        self.result_shown.emit()
 
     def _compute_cancelled(self) -> None:
         self._compute_done()
         self.compute_label.setText("Cancelled: the figures shown are from before the last change")
 
     # --- small parts --------------------------------------------------------------------
-    def _show_preview(self) -> None:
+    def _show_preview(self, *_changed) -> None:
         current = self.table.currentIndex()
         if not current.isValid() or current.row() >= self.model.rowCount():
             self.preview.clear()
@@ -515,7 +522,7 @@ class MainWindow(QMainWindow):
     def _paste_failed(self, message: str) -> None:
         self.document.prompts.warn("The clipboard could not be pasted", message)
 
-    def _update_title(self) -> None:
+    def _update_title(self, *_clean) -> None:
         self.setWindowTitle(f"{self.document.display_name()}[*] — {APP_TITLE}")
         self.setWindowModified(self.is_modified())
 
