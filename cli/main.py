@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import TextIO
 
 from engine import Estimate, InputError, Settings, analyze
+from engine.settings_check import settings_problems
 from engine.shortcut.verdict import compact
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
@@ -131,6 +132,7 @@ def check(path: Path, out: TextIO, err: TextIO) -> int:
     for skipped in summary.get("rows_skipped", []):
         print(f"  row {skipped['row']} skipped: {skipped['reason']}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
+    problems += [str(p) for p in settings_problems(estimate, stored_settings(estimate))]
     if problems:
         print(f"  {len(problems)} problem(s), listed on stderr", file=out)
         return _problems(problems, err)
@@ -150,10 +152,15 @@ def _correlation_problems(estimate: Estimate) -> list[str]:
     return [preview.message() + " Fix: correct the coefficients, or accept the repair."]
 
 
+def stored_settings(estimate: Estimate) -> Settings:
+    """A project file's settings, or the defaults for a spreadsheet."""
+    base = estimate.summary.get("settings")
+    return base if isinstance(base, Settings) else Settings(unit=estimate.unit)
+
+
 def settings_for(args: argparse.Namespace, estimate: Estimate) -> Settings:
     """The project file's settings (or the defaults), overridden by the options given."""
-    base = estimate.summary.get("settings")
-    settings = base if isinstance(base, Settings) else Settings(unit=estimate.unit)
+    settings = stored_settings(estimate)
     changes = {
         name: getattr(args, name)
         for name in ("method", "trials", "seed", "tolerance", "sampling")
@@ -186,6 +193,9 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if args.accept_repair:
         estimate.correlation.accept_repair = True
     settings = settings_for(args, estimate)
+    unusable = estimate.problems + settings_problems(estimate, settings)
+    if unusable:
+        raise InputError(unusable)
     analysis = analyze(estimate, **settings.analyze_kwargs())
     if args.output:
         from reports import write_report
