@@ -18,6 +18,7 @@ from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
 from reports import content
 from reports.content import Kind, Table
+from reports.text_fonts import font_family, make_printable, substitution_notice
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
@@ -215,8 +216,18 @@ def write_pdf(
         "Title": f"Contingency report: {about['title']}",
         "Creator": f"Rangefold {about['rangefold_version']}",
     }
-    with matplotlib.rc_context({"pdf.fonttype": 42}), PdfPages(target, metadata=metadata) as pdf:
+    fonts = {"pdf.fonttype": 42, "font.family": font_family()}
+    with matplotlib.rc_context(fonts), PdfPages(target, metadata=metadata) as pdf:
         for k, page in enumerate(pages, start=1):
+            substituted = make_printable(page.figure)
+            if substituted:
+                page.figure.text(
+                    MARGIN / page.width,
+                    0.55 / page.height,
+                    substitution_notice(substituted),
+                    fontsize=6.5,
+                    color="#b35806",
+                )
             page.figure.text(
                 1 - MARGIN / page.width,
                 0.35 / page.height,
