@@ -17,12 +17,15 @@ from charts.style import TEXT, display_text
 from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
 from reports import content
+from reports.compact_items import compact_item_pages
 from reports.content import Kind, Table
 from reports.text_fonts import font_family, make_printable, substitution_notice
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
 ITEMS_PER_PAGE = 40
+# Beyond this many items the appendix lists this many, the widest (reports/compact_items.py).
+COMPACT_AFTER = 400
 HEADER_FILL = "#dce7ec"
 
 
@@ -307,6 +310,8 @@ def _split_levels(table: Table) -> tuple[Table, Table]:
 
 def _item_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:
     table = content.item_table(estimate)
+    if len(table.rows) > COMPACT_AFTER:
+        return compact_item_pages(table, paper, footer, keep=COMPACT_AFTER)
     ml = table.headers.index("Most likely")
     widths = [2.2, 1.1, 0.75, 0.7, 0.85, 0.7, 0.38, 0.4, 0.6, 0.78, 0.72]
     pages = []
