@@ -228,9 +228,16 @@ class Document(QObject):
             path,
             lambda: self._show(estimate, settings, project, str(path)) or True,
         )
-        if shown:
-            self.add_recent(path)
-        return bool(shown)
+        if not shown:
+            return False
+        self.add_recent(path)
+        unused = estimate.summary.get("settings_problems") or []
+        if unused:  # the defaults stand in for them: say so rather than replace them silently
+            self.prompts.warn(
+                f"Some settings in {path.name} were not used",
+                " ".join(str(p) for p in unused),
+            )
+        return True
 
     def _read_spreadsheet(self, path: Path, interactive: bool) -> Estimate | None:
         if interactive:

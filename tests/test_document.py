@@ -176,3 +176,20 @@ def test_save_as_then_load_gives_the_same_items(qapp, tmp_path):
     assert not document.is_modified()
     assert document.path == tmp_path / "saved.rangefold"
     assert load_project(document.path)[0].items == items()
+
+
+def test_stored_settings_that_cannot_be_used_are_told_on_opening(qapp, tmp_path):
+    import json
+
+    path = tmp_path / "odd.rangefold"
+    save_project(path, Estimate(items=items(), title="Odd"), Settings())
+    document_text = json.loads(path.read_text())
+    document_text["settings"]["trials"] = -5
+    path.write_text(json.dumps(document_text))
+    host = Host(Estimate(items=[]))
+    answers = Answers()
+    document = make(qapp, tmp_path, host, answers)
+    assert document.open_path(path, interactive=False)
+    assert host.settings.trials == Settings().trials
+    (title, message), *_ = answers.warnings
+    assert "odd.rangefold" in title and "trials" in message
