@@ -42,3 +42,17 @@ def test_a_hundred_thousand_rows_paste_and_are_selected(make_window, qtbot):
     rows = window.table.paste_text(text)
     assert len(rows) == MAX_PASTE_ROWS == window.model.rowCount()
     assert len(window.table.selectionModel().selectedRows()) == MAX_PASTE_ROWS
+
+
+@pytest.mark.parametrize(
+    "text",
+    ["12", "-12", "+12", "12.5", ".5", "12.", "-0", "1e3", "1E-2", "1.234", "999999999999999"],
+)
+@pytest.mark.parametrize("decimal", [None, "."])
+def test_plain_numbers_read_the_same_by_the_short_path(text, decimal):
+    """The short path for plain digits gives what the full path gives; a leading space sends
+    the same text down the full path (it is stripped there)."""
+    from fileio.cells import parse_number
+
+    short, full = parse_number(text, decimal=decimal), parse_number(" " + text, decimal=decimal)
+    assert str(short) == str(full)  # -0.0 included
