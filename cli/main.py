@@ -16,6 +16,7 @@ from cli.allocation_text import add_budget_option, parse_budgets, print_allocati
 from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
 from engine.allocation import allocate
+from engine.settings_check import settings_problems
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
 GUIDE_POINTER = (
@@ -165,6 +166,7 @@ def check(path: Path, out: TextIO, err: TextIO, sheets: list[str] | None = None)
     for line in summary_lines(estimate.summary):
         print(f"  {line}", file=out)
     problems = [str(p) for p in estimate.problems] + _correlation_problems(estimate)
+    problems += [str(p) for p in settings_problems(estimate, stored_settings(estimate))]
     if problems:
         print(f"  {count(len(problems), 'problem')}, listed on stderr", file=out)
         return _problems(problems, err)
@@ -184,10 +186,15 @@ def _correlation_problems(estimate: Estimate) -> list[str]:
     return [preview.message() + " Fix: correct the coefficients, or accept the repair."]
 
 
+def stored_settings(estimate: Estimate) -> Settings:
+    """A project file's settings, or the defaults for a spreadsheet."""
+    base = estimate.summary.get("settings")
+    return base if isinstance(base, Settings) else Settings(unit=estimate.unit)
+
+
 def settings_for(args: argparse.Namespace, estimate: Estimate) -> Settings:
     """The project file's settings (or the defaults), overridden by the options given."""
-    base = estimate.summary.get("settings")
-    settings = base if isinstance(base, Settings) else Settings(unit=estimate.unit)
+    settings = stored_settings(estimate)
     changes = {
         name: getattr(args, name)
         for name in ("method", "trials", "seed", "tolerance", "sampling", "unit")
@@ -212,6 +219,10 @@ def parse_levels(text: str) -> tuple[float, ...]:
 
 def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     path = Path(args.input)
+    if args.output:
+        from fileio.output_guard import refuse_overwriting_inputs
+
+        refuse_overwriting_inputs(args.output, [path])
     estimate = read(path, args.sheet)
     if args.accept_repair:
         estimate.correlation.accept_repair = True
@@ -219,6 +230,9 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
         estimate.title = args.title
     settings = settings_for(args, estimate)
     budgets = parse_budgets(args.budget)
+    unusable = estimate.problems + settings_problems(estimate, settings)
+    if unusable:
+        raise InputError(unusable)
     analysis = analyze(estimate, **settings.analyze_kwargs())
     allocation = allocate(estimate, analysis, budgets=budgets)
     if args.output:

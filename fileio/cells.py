@@ -78,6 +78,12 @@ def parse_number(text: str, *, decimal: str | None = None) -> float:
     `decimal` is the file's decimal mark ("." or ","), when the file shows which it uses;
     None judges each cell by itself (see the module rules).
     """
+    if decimal != "," and _PLAIN.fullmatch(text):
+        # Plain digits, the common case, read as the full path below would read them, at a
+        # fraction of its cost (a 100,000-row paste parses 300,000 of them).
+        value = float(text)
+        if abs(value) <= MAX_MAGNITUDE:
+            return value
     s = _clean(text)
     if not s:
         raise CellError("the cell is empty.", "enter a number.")

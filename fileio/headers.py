@@ -95,6 +95,11 @@ _PERCENTILE = re.compile(
 )
 
 
+# The longest text taken for a column name; longer cells above the header (notes, pasted
+# paragraphs of 100,000 characters) made the search run its expressions over every one.
+MAX_HEADER_CHARS = 200
+
+
 @dataclass(frozen=True)
 class HeaderRow:
     index: int  # 0-based row of the grid
@@ -137,6 +142,8 @@ def unique_headers(texts: Sequence[str]) -> list[str]:
     names: list[str] = []
     seen: set[str] = set()
     for i, text in enumerate(texts):
+        if len(text) > MAX_HEADER_CHARS:  # kept short: it is a name, never a figure
+            text = text[:MAX_HEADER_CHARS] + "…"
         name = " ".join(text.split()) or f"Column {column_letter(i)}"
         if name.lower() in seen:
             name = f"{name} ({column_letter(i)})"
@@ -149,6 +156,8 @@ def guess_mapping(headers: Sequence[str]) -> dict[str, str]:
     """Engine column -> header, each header used once, the best-matching pairs first."""
     candidates = []
     for position, header in enumerate(headers):
+        if len(header) > MAX_HEADER_CHARS:
+            continue  # a note or pasted text, not a column name: skip the expressions
         for column in MAPPABLE:
             score = _score(column, header)
             if score:

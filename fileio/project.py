@@ -22,8 +22,10 @@ from engine import (
     Problem,
     Settings,
 )
+from engine.analysis import METHODS, SAMPLINGS
 from engine.validation import item_problems
 from fileio.atomic import write_atomic
+from fileio.project_checks import misshapen_section, unsavable_key
 from fileio.safety import MAX_MAGNITUDE, UnreadableFile, check_file_size, one_line
 
 PROJECT_SUFFIX = ".rangefold"
@@ -50,6 +52,8 @@ _ITEM_COLUMNS = {
 }
 _OPTIONAL_NUMBERS = ("low", "most_likely", "high", "low_pct", "high_pct")
 _NON_FINITE = {"inf": math.inf, "-inf": -math.inf, "nan": math.nan}
+# The trials a stored setting may ask for: the engine's least, and a most that fits in memory.
+MIN_TRIALS, MAX_TRIALS = 1_000, 10_000_000
 
 
 class ProjectError(UnreadableFile):
@@ -59,6 +63,11 @@ class ProjectError(UnreadableFile):
 def save_project(path: str | Path, estimate: Estimate, settings: Settings) -> None:
     """Save atomically, keeping the previous file as `<name>.bak`."""
     document = project_document(estimate, settings)
+    fault = unsavable_key(document)
+    if fault:
+        raise ProjectError(
+            f"{Path(path).name} cannot be saved: {fault}. Correct or remove that value."
+        )
     try:
         text = json.dumps(document, indent=2, ensure_ascii=False, allow_nan=False)
     except (TypeError, ValueError) as why:
@@ -221,6 +230,12 @@ def _read_document(path: Path) -> dict[str, Any]:
             f"{path.name} was saved by a newer Rangefold (project schema {version}; this version "
             f"reads schema {SCHEMA_VERSION} and older). Update Rangefold to open it."
         )
+    for fault in (unsavable_key(document), misshapen_section(document)):
+        if fault:
+            raise ProjectError(
+                f"{path.name} cannot be opened: {fault}. The file was damaged or edited by "
+                f"hand; correct that key, or open the backup {path.name}.bak."
+            )
     return document
 
 
@@ -348,14 +363,12 @@ def _settings_from(data: Any) -> tuple[Settings, list[Problem]]:
         data = {}
     chosen: dict[str, Any] = {}
     checks = {
-        "levels": lambda v: tuple(_number_in(x) for x in v) if isinstance(v, list) else _fail(),
-        "tolerance": _number_in,
-        "method": lambda v: v if isinstance(v, str) else _fail(),
-        "trials": lambda v: v if isinstance(v, int) and not isinstance(v, bool) else _fail(),
-        "seed": lambda v: (
-            v if v is None or (isinstance(v, int) and not isinstance(v, bool)) else _fail()
-        ),
-        "sampling": lambda v: v if isinstance(v, str) else _fail(),
+        "levels": _levels_in,
+        "tolerance": lambda v: _within(_number_in(v), 0.0, 1.0),
+        "method": lambda v: v if v in METHODS else _fail(),
+        "trials": lambda v: _whole(v, MIN_TRIALS, MAX_TRIALS),
+        "seed": lambda v: v if v is None else _whole(v, 0, 2**63 - 1),
+        "sampling": lambda v: v if v in SAMPLINGS else _fail(),
         "unit": lambda v: v if isinstance(v, str) else _fail(),
         "notes": lambda v: v if isinstance(v, str) else _fail(),
         "extra": lambda v: v if isinstance(v, dict) else _fail(),
@@ -384,6 +397,23 @@ def _settings_from(data: Any) -> tuple[Settings, list[Problem]]:
 
 def _fail() -> Any:
     raise ValueError
+
+
+def _within(number: float, low: float, high: float) -> float:
+    """`number` strictly between `low` and `high` (NaN is not)."""
+    return number if low < number < high else _fail()
+
+
+def _whole(value: Any, low: int, high: int) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or not low <= value <= high:
+        raise ValueError
+    return value
+
+
+def _levels_in(value: Any) -> tuple[float, ...]:
+    if not isinstance(value, list) or not value:
+        raise ValueError
+    return tuple(_within(_number_in(v), 0.0, 100.0) for v in value)
 
 
 def _correlation_from(data: Any, problems: list[Problem]) -> CorrelationSpec:

@@ -27,6 +27,7 @@ from fileio.column_checks import (
 from fileio.headers import (
     AMOUNT_COLUMNS,
     HEADER_SEARCH_ROWS,
+    MAX_HEADER_CHARS,
     HeaderRow,
     column_letter,
     find_header,
@@ -382,6 +383,8 @@ def _unit_in_title_block(rows: list[list[str]]) -> str:
     """A unit stated above the header: "Currency: EUR", "Cost estimate in EUR", "in working days"."""
     for row in rows:
         for text in row:
+            if len(text) > MAX_HEADER_CHARS:
+                continue  # a note, not a unit statement; the expressions would crawl over it
             found = _UNIT_LABEL.search(text) or _UNIT_IN.search(text)
             if found:
                 return found.group(1)

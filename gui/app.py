@@ -47,29 +47,43 @@ def run(path: str | None, screenshot: str | None, sheets: list[str] | None = Non
     app.setApplicationName(APPLICATION)
     window = MainWindow()
     if screenshot:
+        # Nobody is there to answer a dialog: messages go to stderr, and the files opened
+        # here are not the user's, so they stay out of Open recent.
+        window.document.prompts.silent = True
+        window.document.remember_recent = False
         window.resize(1440, 900)  # the same picture whatever size was last used
     window.show()
     outcome = {"code": 0}
     if screenshot:
 
         def save() -> None:
-            window.grab().save(screenshot)
+            if not window.grab().save(screenshot):
+                print(f"rangefold: {screenshot} could not be written.", file=sys.stderr)
+                outcome["code"] = outcome["code"] or 2
             window.close()
-            app.quit()
+            app.exit(outcome["code"])
 
         def give_up() -> None:
-            print("rangefold: the first result did not arrive in time.", file=sys.stderr)
-            outcome["code"] = 1
+            print(
+                f"rangefold: the first result did not arrive within "
+                f"{SCREENSHOT_TIMEOUT_MS // 1000} s; the picture shows the window as it was.",
+                file=sys.stderr,
+            )
+            outcome["code"] = 2
+            window.recomputer.cancel()
             save()
 
         window.result_shown.connect(lambda: QTimer.singleShot(300, save))
         QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, give_up)
-    opened = window.open_path(path, interactive=not screenshot, sheets=sheets) if path else None
+    opened = (
+        window.document.open_path(path, interactive=not screenshot, sheets=sheets) if path else None
+    )
     if path and not opened and screenshot:
+        window.close()
         return 2
     if not path:
         window.open_demo()
     if not screenshot:
-        window.offer_recovery()
+        window.document.offer_recovery()
     code = app.exec()
     return outcome["code"] or code

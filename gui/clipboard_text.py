@@ -7,12 +7,16 @@ cells in the table's column order.
 
 from __future__ import annotations
 
+import csv
+import io
 from collections.abc import Iterable
 
 from engine import LineItem
+from fileio.safety import MAX_ITEM_ROWS
 from gui.item_text import EDIT_COLUMNS, item_cells
 
 KNOWN_HEADERS = {c.lower(): c for c in (*EDIT_COLUMNS, "Shape")}
+MAX_PASTE_ROWS = MAX_ITEM_ROWS  # the same limit as an imported sheet
 
 
 def items_to_tsv(items: Iterable[LineItem]) -> str:
@@ -28,11 +32,21 @@ def _clean(text: str) -> str:
 
 
 def tsv_rows(text: str) -> list[list[str]]:
-    """Rows of cells; a trailing empty line (spreadsheets add one) is not a row."""
-    lines = text.replace("\r\n", "\n").replace("\r", "\n").split("\n")
-    while lines and not lines[-1].strip():
-        lines.pop()
-    return [line.split("\t") for line in lines]
+    """Rows of cells; a trailing empty line (spreadsheets add one) is not a row.
+
+    Spreadsheets quote a cell that holds a line break, a tab or a quote ("two\nlines"), so
+    the block is read as CSV with tabs: a multi-line cell stays one cell of one row.
+    """
+    rows = list(csv.reader(io.StringIO(text, newline=""), delimiter="\t"))
+    while rows and not any(cell.strip() for cell in rows[-1]):
+        rows.pop()
+    if len(rows) > MAX_PASTE_ROWS + 1:
+        raise ValueError(
+            f"the clipboard holds {len(rows):,} rows, more than Rangefold pastes at once "
+            f"({MAX_PASTE_ROWS:,} line items). Fix: import the file with File ▸ Import items, "
+            "or paste it in parts."
+        )
+    return rows
 
 
 def tsv_to_cells(text: str) -> list[dict[str, str]]:
@@ -54,6 +68,7 @@ def tsv_to_cells(text: str) -> list[dict[str, str]]:
                 f"Fix: rename them to one of {', '.join(EDIT_COLUMNS)}, or leave them out."
             )
         columns = [KNOWN_HEADERS.get(c, "") for c in header]
+        _refuse_repeated(columns)
         body = rows[1:]
     else:
         columns = list(EDIT_COLUMNS)
@@ -70,3 +85,15 @@ def tsv_to_cells(text: str) -> list[dict[str, str]]:
             continue
         cells.append({c: x.strip() for c, x in zip(columns, row, strict=False) if c})
     return cells
+
+
+def _refuse_repeated(columns: list[str]) -> None:
+    """Two header cells naming one column: which one holds the figure is a guess, so ask."""
+    seen: dict[str, int] = {}
+    for number, column in enumerate(columns, start=1):
+        if column and column in seen:
+            raise ValueError(
+                f"the pasted header names {column} twice (columns {seen[column]} and {number}). "
+                "Fix: rename or leave out one of them."
+            )
+        seen[column] = number

@@ -3,7 +3,7 @@ blocks, and row operations on the selected rows, all through the ItemEditor."""
 
 from __future__ import annotations
 
-from PySide6.QtCore import QItemSelectionModel, Qt, Signal
+from PySide6.QtCore import QItemSelection, QItemSelectionModel, Qt, Signal
 from PySide6.QtGui import QGuiApplication, QKeyEvent, QKeySequence
 from PySide6.QtWidgets import QAbstractItemDelegate, QAbstractItemView, QHeaderView, QTableView
 
@@ -94,12 +94,15 @@ class ItemTableView(QTableView):
     def select_rows(self, rows: list[int]) -> None:
         model = self.model()
         selection = self.selectionModel()
-        selection.clearSelection()
-        for row in rows:
-            selection.select(
-                model.index(row, 0),
-                QItemSelectionModel.SelectionFlag.Select | QItemSelectionModel.SelectionFlag.Rows,
-            )
+        # One selection of runs of adjacent rows: selecting row by row is quadratic.
+        block = QItemSelection()
+        for first, last in _runs(sorted(rows)):
+            block.select(model.index(first, 0), model.index(last, 0))
+        selection.select(
+            block,
+            QItemSelectionModel.SelectionFlag.ClearAndSelect
+            | QItemSelectionModel.SelectionFlag.Rows,
+        )
         if rows:
             first = model.index(rows[0], 0)
             selection.setCurrentIndex(first, QItemSelectionModel.SelectionFlag.NoUpdate)
@@ -174,3 +177,14 @@ class ItemTableView(QTableView):
         current = self.currentIndex()
         if current.isValid() and current.row() + 1 < self.model().rowCount():
             self.setCurrentIndex(self.model().index(current.row() + 1, current.column()))
+
+
+def _runs(rows: list[int]) -> list[tuple[int, int]]:
+    """Sorted row numbers as (first, last) runs of adjacent rows."""
+    runs: list[tuple[int, int]] = []
+    for row in rows:
+        if runs and row == runs[-1][1] + 1:
+            runs[-1] = (runs[-1][0], row)
+        else:
+            runs.append((row, row))
+    return runs

@@ -1,7 +1,8 @@
 """The main window: items on the left, the total on the right, settings at the side.
 
-It wires the parts together and owns the document (path, settings, modified state); the
-items themselves live in the ItemEditor's model, the figures come from the Recomputer.
+It wires the parts together; the document's life (open, save, recent files, autosave,
+recovery, export) is gui/document.py, the items live in the ItemEditor's model, and the figures
+come from the Recomputer.
 """
 
 from __future__ import annotations
@@ -10,16 +11,14 @@ import os
 from dataclasses import replace
 from pathlib import Path
 
-from PySide6.QtCore import QSettings, QStandardPaths, Qt, QTimer, Signal
+from PySide6.QtCore import QSettings, QStandardPaths, Qt, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
 from PySide6.QtWidgets import (
     QDockWidget,
-    QFileDialog,
     QGroupBox,
     QHBoxLayout,
     QLabel,
     QMainWindow,
-    QMessageBox,
     QProgressBar,
     QPushButton,
     QSplitter,
@@ -31,6 +30,8 @@ from PySide6.QtWidgets import (
 from charts import numbers
 from engine import Estimate, Settings
 from gui.compare_dialog import compare_with
+from gui.document import Document, Prompts
+from gui.empty_state import empty_estimate_text
 from gui.help_menu import add_help_menu
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
@@ -43,16 +44,6 @@ from gui.settings_panel import SettingsPanel
 from gui.undo import SettingsUndoCommand
 
 APP_TITLE = "Rangefold"
-PROJECT_FILTER = "Rangefold project (*.rangefold)"
-SPREADSHEET_FILTER = "Spreadsheet (*.xlsx *.xlsm *.csv *.tsv *.txt)"
-REPORT_FILTERS = {
-    "Workbook report (*.xlsx)": ".xlsx",
-    "PDF report (*.pdf)": ".pdf",
-    "JSON data (*.json)": ".json",
-}
-RECENT_LIMIT = 8
-AUTOSAVE_MS = 60_000
-AUTOSAVE_AFTER_EDIT_MS = 2_000
 # Where autosaved work goes; tests and managed installations point it elsewhere.
 RECOVERY_DIR_VARIABLE = "RANGEFOLD_RECOVERY_DIR"
 
@@ -72,7 +63,7 @@ def default_recovery_dir() -> Path:
 
 
 class MainWindow(QMainWindow):
-    # The first analysis shown (used by --screenshot to know the window is ready).
+    # Figures or the message in their place are on screen (--screenshot waits for this).
     result_shown = Signal()
 
     def __init__(
@@ -83,10 +74,6 @@ class MainWindow(QMainWindow):
     ):
         super().__init__(parent)
         self.store = store or QSettings()
-        self.recovery = RecoveryStore(recovery_dir or default_recovery_dir())
-        self.path: Path | None = None  # the project file, once saved as one
-        self.source: str = ""  # where the items came from, for the title and the report
-        self._settings_dirty = False
         self.last_outcome: Outcome | None = None
         self.last_problem = ""
 
@@ -100,17 +87,19 @@ class MainWindow(QMainWindow):
         self._applied = self.settings_panel.settings  # the settings in force, for undo
         self.recomputer = Recomputer(parent=self)
         self.correlation_dialog = None  # made when first opened
+        self.document = Document(
+            self,
+            Prompts(self),
+            self.store,
+            RecoveryStore(recovery_dir or default_recovery_dir()),
+            parent=self,
+        )
 
         self._build_layout()
         self._build_status_bar()
         self._build_actions()
         self._connect()
 
-        self._autosave_timer = QTimer(self, interval=AUTOSAVE_MS)
-        self._autosave_timer.timeout.connect(self.autosave)
-        self._autosave_timer.start()
-        self._autosave_soon = QTimer(self, singleShot=True, interval=AUTOSAVE_AFTER_EDIT_MS)
-        self._autosave_soon.timeout.connect(self.autosave)
         self.resize(1440, 900)
         geometry = self.store.value("window/geometry")
         if geometry is not None:
@@ -230,20 +219,21 @@ class MainWindow(QMainWindow):
     def _build_actions(self) -> None:
         menus = self.menuBar()
         file_menu = menus.addMenu("&File")
-        self._action("&New estimate", self.new_document, QKeySequence.StandardKey.New, file_menu)
-        self._action("&Open…", self.open_dialog, QKeySequence.StandardKey.Open, file_menu)
+        document = self.document
+        self._action("&New estimate", document.new, QKeySequence.StandardKey.New, file_menu)
+        self._action("&Open…", document.open_dialog, QKeySequence.StandardKey.Open, file_menu)
         self._action(
             "&Import items…",
-            self.import_items_dialog,
+            document.import_dialog,
             "Ctrl+I",
             file_menu,
             "Add the rows of a spreadsheet to this estimate",
         )
         self.recent_menu = file_menu.addMenu("Open &recent")
         file_menu.addSeparator()
-        self._action("&Save", self.save, QKeySequence.StandardKey.Save, file_menu)
-        self._action("Save &as…", self.save_as, QKeySequence.StandardKey.SaveAs, file_menu)
-        self._action("&Export report…", self.export_dialog, "Ctrl+E", file_menu)
+        self._action("&Save", document.save, QKeySequence.StandardKey.Save, file_menu)
+        self._action("Save &as…", document.save_as, QKeySequence.StandardKey.SaveAs, file_menu)
+        self._action("&Export report…", document.export_dialog, "Ctrl+E", file_menu)
         self._action("Co&mpare with…", lambda: compare_with(self), None, file_menu)
         file_menu.addSeparator()
         self._action("&Quit", self.close, QKeySequence.StandardKey.Quit, file_menu)
@@ -302,9 +292,11 @@ class MainWindow(QMainWindow):
 
     def _connect(self) -> None:
         self.model.items_changed.connect(self._items_changed)
-        self.undo_stack.cleanChanged.connect(lambda _clean: self._update_title())
+        # Bound methods, not lambdas: Qt drops them when the window is deleted, while a lambda
+        # would still run on the undo stack's last signal at exit and meet a deleted window.
+        self.undo_stack.cleanChanged.connect(self._update_title)
         self.settings_panel.changed.connect(self._settings_changed)
-        self.table.selectionModel().currentRowChanged.connect(lambda *_: self._show_preview())
+        self.table.selectionModel().currentRowChanged.connect(self._show_preview)
         self.table.paste_failed.connect(self._paste_failed)
         self.recomputer.started.connect(self._compute_started)
         self.recomputer.progress.connect(self._compute_progress)
@@ -316,6 +308,7 @@ class MainWindow(QMainWindow):
         self.recomputer.repair_needed.connect(self._repair_needed)
         self.results.repair.accept_requested.connect(self.accept_repair)
         self.results.repair.fix_requested.connect(self._fix_correlations)
+        self.document.recent_changed.connect(self._update_recent_menu)
 
     # --- the document -------------------------------------------------------------------
     @property
@@ -327,14 +320,15 @@ class MainWindow(QMainWindow):
         return self.settings_panel.settings
 
     def is_modified(self) -> bool:
-        return self._settings_dirty or not self.undo_stack.isClean()
+        return self.document.is_modified()
 
     def set_document(
         self, estimate: Estimate, settings: Settings, path: Path | None, source: str = ""
     ) -> None:
-        self.path = Path(path) if path else None
-        self.source = source or (str(path) if path else estimate.source)
-        self._settings_dirty = False
+        self.document.set_location(path, source, estimate)
+        self.show_document(estimate, settings)
+
+    def show_document(self, estimate: Estimate, settings: Settings) -> None:
         self.settings_panel.set_settings(settings)
         self._applied = settings
         self.editor.set_estimate(estimate)
@@ -344,78 +338,15 @@ class MainWindow(QMainWindow):
         self._update_title()
         self.recompute_now()
 
-    def new_document(self) -> None:
-        if self.maybe_save():
-            self.set_document(Estimate(title="New estimate"), Settings(), None)
+    def document_changed(self) -> None:
+        self._update_title()
 
     def open_demo(self) -> None:
         from fileio.demo import DEMO_WORKBOOK
 
-        self.open_path(DEMO_WORKBOOK, interactive=False)
+        self.document.open_path(DEMO_WORKBOOK, interactive=False)
 
-    def open_dialog(self) -> None:
-        if not self.maybe_save():
-            return
-        path, _ = QFileDialog.getOpenFileName(
-            self, "Open an estimate", self._last_folder(), f"{PROJECT_FILTER};;{SPREADSHEET_FILTER}"
-        )
-        if path:
-            self.open_path(path)
-
-    def open_path(
-        self, path: str | Path, interactive: bool = True, sheets: list[str] | None = None
-    ) -> bool:
-        """Open a project file, or a spreadsheet through the import dialog (interactive);
-        `sheets` as `rangefold gui --sheet` gives them."""
-        from fileio.project import PROJECT_SUFFIX, load_project
-
-        path = Path(path)
-        try:
-            if path.suffix.lower() == PROJECT_SUFFIX:
-                estimate, settings = load_project(path)
-                self.set_document(estimate, settings, path)
-            else:
-                estimate = self._read_spreadsheet(path, interactive, sheets)
-                if estimate is None:
-                    return False
-                self.set_document(estimate, Settings(unit=estimate.unit or ""), None, str(path))
-        except (ValueError, OSError) as bad:
-            self._warn(f"{path.name} could not be opened", str(bad))
-            return False
-        self._add_recent(path)
-        return True
-
-    def _read_spreadsheet(
-        self, path: Path, interactive: bool, sheets: list[str] | None = None
-    ) -> Estimate | None:
-        if not interactive:
-            from engine import read_estimate
-
-            return read_estimate(path, sheet=sheets)
-        from gui.import_dialog import ImportDialog
-
-        dialog = ImportDialog(path, self, sheets)
-        if dialog.exec() != ImportDialog.DialogCode.Accepted or dialog.estimate is None:
-            return None
-        return dialog.estimate
-
-    def import_items_dialog(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(
-            self, "Import items", self._last_folder(), SPREADSHEET_FILTER
-        )
-        if path:
-            self.import_items(path)
-
-    def import_items(self, path: str | Path, interactive: bool = True) -> list[int]:
-        """Add a spreadsheet's rows to this estimate, as one undoable step."""
-        path = Path(path)
-        try:
-            estimate = self._read_spreadsheet(path, interactive)
-        except (ValueError, OSError) as bad:
-            self._warn(f"{path.name} could not be imported", str(bad))
-            return []
-        if estimate is None:
-            return []
+    def insert_imported(self, estimate: Estimate, path: Path) -> list[int]:
         rows = self.editor.insert_items(
             estimate.items,
             None,
@@ -424,115 +355,17 @@ class MainWindow(QMainWindow):
         self.table.select_rows(rows)
         return rows
 
-    def save(self) -> bool:
-        if self.path is None:
-            return self.save_as()
-        return self._save_to(self.path)
-
-    def save_as(self) -> bool:
-        from fileio.project import PROJECT_SUFFIX
-
-        suggested = self.path or Path(self._last_folder()) / (
-            (Path(self.source).stem if self.source else "estimate") + PROJECT_SUFFIX
-        )
-        path, _ = QFileDialog.getSaveFileName(
-            self, "Save the estimate", str(suggested), PROJECT_FILTER
-        )
-        if not path:
-            return False
-        path = Path(path)
-        if path.suffix.lower() != PROJECT_SUFFIX:
-            path = path.with_name(path.name + PROJECT_SUFFIX)
-        return self._save_to(path)
-
-    def _save_to(self, path: Path) -> bool:
-        from fileio.project import save_project
-
-        try:
-            save_project(path, self.estimate, self.settings)
-        except (OSError, ValueError) as bad:
-            self._warn("The estimate could not be saved", f"{path}: {bad}")
-            return False
-        self.path = path
-        self.source = str(path)
-        self._settings_dirty = False
-        self.undo_stack.setClean()
-        self.recovery.clear()
-        self._add_recent(path)
-        self._update_title()
-        self.statusBar().showMessage(f"Saved {path}", 5000)
-        return True
-
-    def maybe_save(self) -> bool:
-        """True when it is fine to drop the current document (saved, discarded)."""
-        if not self.is_modified():
-            return True
-        answer = QMessageBox.question(
-            self,
-            "Unsaved changes",
-            "This estimate has changes that are not saved. Save them first?",
-            QMessageBox.StandardButton.Save
-            | QMessageBox.StandardButton.Discard
-            | QMessageBox.StandardButton.Cancel,
-            QMessageBox.StandardButton.Save,
-        )
-        if answer == QMessageBox.StandardButton.Save:
-            return self.save()
-        return answer == QMessageBox.StandardButton.Discard
-
-    # --- export -------------------------------------------------------------------------
-    def export_dialog(self) -> None:
-        if self.last_outcome is None:
-            self._warn(
-                "Nothing to export yet", self.last_problem or "The total is not computed yet."
-            )
-            return
-        stem = Path(self.source).stem if self.source else "estimate"
-        path, chosen = QFileDialog.getSaveFileName(
-            self,
-            "Export the contingency report",
-            str(Path(self._last_folder()) / f"{stem} contingency.xlsx"),
-            ";;".join(REPORT_FILTERS),
-        )
-        if path:
-            path = Path(path)
-            if path.suffix.lower() not in REPORT_FILTERS.values():
-                path = path.with_name(path.name + REPORT_FILTERS.get(chosen, ".xlsx"))
-            self.export_report(path)
-
-    def export_report(self, path: str | Path) -> Path | None:
-        """Write the report of the figures on screen (the last finished analysis)."""
-        from reports import write_report
-
-        outcome = self.last_outcome
-        if outcome is None:
-            return None
-        try:
-            written = write_report(
-                path,
-                outcome.estimate,
-                outcome.analysis,
-                outcome.settings,
-                source_path=self.path or (Path(self.source) if self.source else None),
-                allocation=self.results.allocation.allocation_for(outcome.analysis),
-            )
-        except (OSError, ValueError) as bad:
-            self._warn("The report could not be written", f"{path}: {bad}")
-            return None
-        self.statusBar().showMessage(f"Report written to {written}", 8000)
-        return Path(written)
-
     # --- recompute ----------------------------------------------------------------------
     def _items_changed(self) -> None:
         self._update_title()
         self._show_preview()
-        self._autosave_soon.start()
+        self.document.edited()
         self.schedule_recompute()
 
     def _correlation_changed(self) -> None:
         self._update_title()
         self._update_correlation_button()
-        self._autosave_soon.start()
+        self.document.edited()
         self.schedule_recompute()
 
     def _update_correlation_button(self) -> None:
@@ -573,7 +406,7 @@ class MainWindow(QMainWindow):
 
     def _settings_changed(self, settings: Settings) -> None:
         """A change the user made in the panel: one undo step (merged with the next)."""
-        self._settings_dirty = True
+        self.document.settings_dirty = True
         self.undo_stack.push(SettingsUndoCommand(self._apply_settings, self._applied, settings))
 
     def _apply_settings(self, settings: Settings) -> None:
@@ -581,7 +414,7 @@ class MainWindow(QMainWindow):
         if self.settings_panel.settings != settings:
             self.settings_panel.set_settings(settings)
         self._update_title()
-        self._autosave_soon.start()
+        self.document.edited()
         self.schedule_recompute()
         self._show_preview()
 
@@ -610,7 +443,7 @@ class MainWindow(QMainWindow):
             items=valid,
             title=full.title,
             unit=self.settings.unit or full.unit,
-            source=full.source or self.source,
+            source=full.source or self.document.source,
             read_problems=[],
             summary=summary,
             correlation=correlation,
@@ -632,13 +465,16 @@ class MainWindow(QMainWindow):
         if not estimate.items:
             self.recomputer.cancel()
             self.last_outcome = None
-            self.last_problem = (
-                "No row can be used yet: add line items or fix the marked cells."
-                if self.estimate.items
-                else "The estimate has no line items yet: add a row or open a file."
-            )
-            self.results.show_problem(self.last_problem)
+            if self.estimate.items:
+                self.last_problem = (
+                    "No row can be used yet: add line items or fix the marked cells."
+                )
+                self.results.show_problem(self.last_problem)
+            else:
+                self.last_problem = empty_estimate_text()
+                self.results.show_problem(self.last_problem, chart_message=self.last_problem)
             self.compute_label.setText("")
+            self.result_shown.emit()
             return
         self.recomputer.request(estimate, self.settings)
         if now:
@@ -685,13 +521,14 @@ class MainWindow(QMainWindow):
         self.last_problem = message
         self.results.show_problem(message)
         self.compute_label.setText("Not computed: see the message above the charts")
+        self.result_shown.emit()
 
     def _compute_cancelled(self) -> None:
         self._compute_done()
         self.compute_label.setText("Cancelled: the figures shown are from before the last change")
 
     # --- small parts --------------------------------------------------------------------
-    def _show_preview(self) -> None:
+    def _show_preview(self, *_changed) -> None:
         current = self.table.currentIndex()
         if not current.isValid() or current.row() >= self.model.rowCount():
             self.preview.clear()
@@ -700,83 +537,29 @@ class MainWindow(QMainWindow):
         self.preview.show_item(self.model.items[row], self.model.check(row), self.settings.unit)
 
     def _paste_failed(self, message: str) -> None:
-        self._warn("The clipboard could not be pasted", message)
+        self.document.prompts.warn("The clipboard could not be pasted", message)
 
-    def _warn(self, title: str, message: str) -> None:
-        QMessageBox.warning(self, title, message)
-
-    def _update_title(self) -> None:
-        name = self.path.name if self.path else (Path(self.source).name if self.source else "")
-        name = name or (self.estimate.title or "Untitled estimate")
-        self.setWindowTitle(f"{name}[*] — {APP_TITLE}")
+    def _update_title(self, *_clean) -> None:
+        self.setWindowTitle(f"{self.document.display_name()}[*] — {APP_TITLE}")
         self.setWindowModified(self.is_modified())
-
-    def _last_folder(self) -> str:
-        recent = self.recent_files()
-        return str(Path(recent[0]).parent) if recent else str(Path.home())
-
-    def recent_files(self) -> list[str]:
-        value = self.store.value("recent_files", [])
-        if isinstance(value, str):
-            value = [value]
-        return [str(v) for v in value or []]
-
-    def _add_recent(self, path: Path) -> None:
-        files = [str(path)] + [f for f in self.recent_files() if f != str(path)]
-        self.store.setValue("recent_files", files[:RECENT_LIMIT])
-        self._update_recent_menu()
 
     def _update_recent_menu(self) -> None:
         self.recent_menu.clear()
-        files = self.recent_files()
+        files = self.document.recent_files()
         for f in files:
             action = self.recent_menu.addAction(f)
-            action.triggered.connect(lambda _=False, f=f: self.maybe_save() and self.open_path(f))
+            action.triggered.connect(lambda _=False, f=f: self.document.open_recent(f))
         self.recent_menu.setEnabled(bool(files))
 
-    # --- autosave and close -------------------------------------------------------------
-    def autosave(self) -> None:
-        if not self.is_modified():
-            return
-        try:
-            self.recovery.save(self.estimate, self.settings, self.path)
-        except (OSError, ValueError) as bad:
-            self.statusBar().showMessage(f"Autosave failed: {bad}", 8000)
-
-    def offer_recovery(self) -> bool:
-        """After a crash: offer the autosaved work back. True when it was restored."""
-        found = self.recovery.find()
-        if found is None:
-            return False
-        where = str(found.original) if found.original else "an unsaved estimate"
-        answer = QMessageBox.question(
-            self,
-            "Recover unsaved work",
-            f"Rangefold did not close cleanly last time. Work on {where} was kept. Restore it?",
-            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
-            QMessageBox.StandardButton.Yes,
-        )
-        if answer != QMessageBox.StandardButton.Yes:
-            self.recovery.clear()
-            return False
-        try:
-            estimate, settings = self.recovery.load(found)
-        except (OSError, ValueError) as bad:
-            self._warn("The recovered work could not be read", str(bad))
-            return False
-        self.set_document(estimate, settings, found.original)
-        self._settings_dirty = True  # recovered work is unsaved until the user saves it
-        self._update_title()
-        return True
-
+    # --- close -------------------------------------------------------------------------
     def closeEvent(self, event: QCloseEvent) -> None:
-        if not self.maybe_save():
+        if not self.document.maybe_save():
             event.ignore()
             return
         self.store.setValue("window/geometry", self.saveGeometry())
         self.recomputer.cancel()
         self.recomputer.wait()
-        self.recovery.clear()
+        self.document.closed()
         event.accept()
 
 

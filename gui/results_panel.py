@@ -221,7 +221,12 @@ class ResultsPanel(QWidget):
         self._stale = [True] * len(self.canvases)
         self._draw_current(self.tabs.currentIndex())
 
-    def show_problem(self, message: str, notices: list[str] = ()) -> None:
+    def show_problem(
+        self,
+        message: str,
+        notices: list[str] = (),
+        chart_message: str = "Nothing to show until the estimate can be computed.",
+    ) -> None:
         """No analysis could be made: say why in place of the results."""
         self.analysis = None
         self.summary.setText("No total yet.")
@@ -232,7 +237,7 @@ class ResultsPanel(QWidget):
         self.tabs.setTabVisible(self._paths_index, False)
         self.reasons.setText("")
         for canvas in self.canvases:
-            canvas.show_message("Nothing to show until the estimate can be computed.")
+            canvas.show_message(chart_message)
         self.allocation.clear("Nothing to allocate until the estimate can be computed.")
 
     def set_notices(self, notices: list[str]) -> None:

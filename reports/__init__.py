@@ -25,9 +25,10 @@ def write_report(
     """Write the report to `path` (.xlsx, .pdf or .json) and return it.
 
     The report is made in memory and written atomically, so a failed export never leaves
-    half a report under the real name.
+    half a report under the real name; it is never written over the estimate it reports on.
     """
     from fileio.atomic import write_atomic
+    from fileio.output_guard import refuse_overwriting_inputs
 
     path = Path(path)
     suffix = path.suffix.lower()
@@ -36,6 +37,7 @@ def write_report(
             f"cannot write a report as {suffix or 'a file without extension'!r}: "
             f"use {', '.join(FORMATS)}."
         )
+    refuse_overwriting_inputs(path, [source_path])
     about = provenance(estimate, settings, source_path)
     if allocation is None:  # where the contingency sits: every report carries it
         allocation = allocate(estimate, analysis)

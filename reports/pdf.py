@@ -23,12 +23,16 @@ from engine import Analysis, Estimate
 from engine.allocation import Allocation
 from reports import content
 from reports.caution import CAUTION, NORMAL_SHORTCUT_GLOSS
+from reports.compact_items import compact_item_pages
 from reports.content import Kind, Table
 from reports.import_provenance import import_lines
+from reports.text_fonts import font_family, make_printable, substitution_notice
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
 ITEMS_PER_PAGE = 40
+# Beyond this many items the appendix lists this many, the widest (reports/compact_items.py).
+COMPACT_AFTER = 400
 HEADER_FILL = "#dce7ec"
 FOOTER_SIZE = 6.5
 FOOTER_COLOUR = "#4b5563"
@@ -255,8 +259,18 @@ def write_pdf(
         "Title": f"Contingency report: {about['title']}",
         "Creator": f"Rangefold {about['rangefold_version']}",
     }
-    with matplotlib.rc_context({"pdf.fonttype": 42}), PdfPages(target, metadata=metadata) as pdf:
+    fonts = {"pdf.fonttype": 42, "font.family": font_family()}
+    with matplotlib.rc_context(fonts), PdfPages(target, metadata=metadata) as pdf:
         for page in pages:
+            substituted = make_printable(page.figure)
+            if substituted:
+                page.figure.text(
+                    MARGIN / page.width,
+                    0.55 / page.height,
+                    substitution_notice(substituted),
+                    fontsize=FOOTER_SIZE,
+                    color="#b35806",
+                )
             pdf.savefig(page.figure)
     return len(pages)
 
@@ -392,6 +406,8 @@ def _split_levels(table: Table) -> tuple[Table, Table]:
 
 def _item_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:
     table = content.item_table(estimate)
+    if len(table.rows) > COMPACT_AFTER:
+        return compact_item_pages(table, paper, footer, keep=COMPACT_AFTER)
     ml = table.headers.index("Most likely")
     widths = [2.2, 1.1, 0.75, 0.7, 0.85, 0.7, 0.38, 0.4, 0.6, 0.78, 0.72]
     pages = []

@@ -29,7 +29,7 @@ def make_window(qtbot, tmp_path):
     for window in made:
         # Closed here, not by qtbot, so that nothing is left to ask about at close.
         window.undo_stack.setClean()
-        window._settings_dirty = False
+        window.document.settings_dirty = False
         window.close()
         window.deleteLater()
 

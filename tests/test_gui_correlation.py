@@ -275,11 +275,11 @@ def test_correlations_survive_saving_and_opening_the_project(make_window, qtbot,
     panel.set_group_text("Access", "0.5")
     panel.default.setValue(0.2)
     path = tmp_path / "yard.rangefold"
-    assert window._save_to(path)
+    assert window.document.save_to(path)
 
     other = make_window()
     with qtbot.waitSignal(other.recomputer.finished, timeout=TIMEOUT_MS):
-        assert other.open_path(path)
+        assert other.document.open_path(path)
     spec = other.estimate.correlation
     assert [(p.item_a, p.item_b, p.coefficient) for p in spec.pairs] == [
         ("Crane hire", "Scaffold rental", 0.35)

@@ -102,13 +102,13 @@ def test_work_autosaved_before_a_kill_is_offered_back(make_window, qtbot, tmp_pa
     monkeypatch.setattr(QMessageBox, "question", answer)
     window = make_window(recovery)
     with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
-        assert window.offer_recovery()
+        assert window.document.offer_recovery()
     assert offered and str(project) in offered[0]
     assert window.estimate.items[0].high == 150.0
     assert window.estimate.correlation.pairs == [
         CorrelationPair("Crane hire", "Scaffold rental", 0.45, None)
     ]
-    assert window.path == project and window.is_modified()
+    assert window.document.path == project and window.is_modified()
     assert window.last_outcome.analysis.dependence is not None
 
 

@@ -115,26 +115,26 @@ def test_save_then_reopen_gives_the_same_estimate(make_window, qtbot, tmp_path):
     window = make_window()
     open_estimate(window, qtbot, two_uniforms(), exact_settings())
     path = tmp_path / "yard.rangefold"
-    assert window._save_to(path)
+    assert window.document.save_to(path)
     assert not window.is_modified()
     other = make_window()
     with qtbot.waitSignal(other.recomputer.finished, timeout=TIMEOUT_MS):
-        assert other.open_path(path)
+        assert other.document.open_path(path)
     assert other.estimate.items == two_uniforms().items
     assert other.settings.method == "exact"
-    assert str(path) in other.recent_files()
+    assert str(path) in other.document.recent_files()
 
 
 def test_export_writes_a_report_that_opens_back(make_window, qtbot, tmp_path):
     window = make_window()
     open_estimate(window, qtbot, two_uniforms(), exact_settings())
-    written = window.export_report(tmp_path / "yard.json")
+    written = window.document.export_report(tmp_path / "yard.json")
     data = json.loads(Path(written).read_text(encoding="utf-8"))
     text = json.dumps(data)
     assert "Crane hire" in text
     # The report carries the figures on screen: P80 of the triangular sum (see above).
     assert f"{level_value(window, 80):.6g}"[:5] in text.replace(",", "")
-    xlsx = window.export_report(tmp_path / "yard.xlsx")
+    xlsx = window.document.export_report(tmp_path / "yard.xlsx")
     from openpyxl import load_workbook
 
     book = load_workbook(xlsx, read_only=True)
@@ -160,7 +160,7 @@ def test_autosave_is_offered_back_after_a_crash(make_window, qtbot, tmp_path, mo
     first = make_window(recovery)
     open_estimate(first, qtbot, two_uniforms(), exact_settings())
     first.editor.edit_cell(0, TABLE_COLUMNS.index("High"), "150")
-    first.autosave()
+    first.document.autosave()
     assert (recovery / "recovery.json").exists()
     # The crash: the window is never closed, so its recovery file stays.
     offered = []
@@ -172,7 +172,7 @@ def test_autosave_is_offered_back_after_a_crash(make_window, qtbot, tmp_path, mo
     monkeypatch.setattr(QMessageBox, "question", answer)
     second = make_window(recovery)
     with qtbot.waitSignal(second.recomputer.finished, timeout=TIMEOUT_MS):
-        assert second.offer_recovery()
+        assert second.document.offer_recovery()
     assert offered and "did not close cleanly" in offered[0]
     assert second.estimate.items[0].high == 150.0
     assert second.is_modified()
@@ -226,7 +226,7 @@ def test_import_items_adds_rows_as_one_undo_step(make_window, qtbot, tmp_path):
         "Item,Distribution,Low,Most likely,High\nLintels,triangular,1,2,4\n", encoding="utf-8"
     )
     with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
-        assert window.import_items(path, interactive=False) == [2]
+        assert window.document.import_items(path, interactive=False) == [2]
     assert window.estimate.items[2].name == "Lintels"
     window.undo_stack.undo()
     assert len(window.estimate.items) == 2
@@ -240,7 +240,7 @@ def test_import_items_adds_rows_as_one_undo_step(make_window, qtbot, tmp_path):
 def test_each_demo_workbook_opens_and_closes(make_window, qtbot, workbook):
     window = make_window()
     window.show()
-    assert window.open_path(workbook, interactive=False)
+    assert window.document.open_path(workbook, interactive=False)
     qtbot.waitUntil(
         lambda: not window.recomputer.busy and bool(window.last_outcome or window.last_problem),
         timeout=TIMEOUT_MS,
