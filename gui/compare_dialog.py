@@ -29,9 +29,9 @@ from engine import Cancelled, InputError, analyze
 from engine.allocation import allocate
 from engine.comparison import Comparison, compare
 from gui.chart_canvas import ChartCanvas
+from gui.document import ESTIMATE_FILTER
 from gui.recompute import Outcome
 
-OPEN_FILTER = "Estimates (*.rangefold *.xlsx *.xlsm *.csv *.tsv *.txt)"
 SAVE_FILTERS = {"PDF (*.pdf)": ".pdf", "Workbook (*.xlsx)": ".xlsx", "JSON data (*.json)": ".json"}
 
 
@@ -240,7 +240,7 @@ def compare_with(window) -> CompareDialog | None:
         )
         return None
     path, _ = QFileDialog.getOpenFileName(
-        window, "Compare with…", window._last_folder(), OPEN_FILTER
+        window, "Compare with…", window.document.last_folder(), ESTIMATE_FILTER
     )
     if not path:
         return None
