@@ -254,7 +254,7 @@ def item_from_text(cells: dict[str, str], previous: LineItem | None = None) -> L
         return item_from_cells(cells, None, None)
     # The source and the notes stay with the item through edits.
     edited = item_from_cells(cells, previous.row, previous.sheet)
-    return edited.with_changes(notes=dict(previous.notes), paths=previous.paths)
+    return edited.with_changes(notes=dict(previous.notes))
 
 
 def source_tooltip(item: LineItem) -> str | None:

@@ -20,7 +20,7 @@ def estimator_book(path: Path, rows: list[list]) -> None:
     book = Workbook()
     sheet = book.active
     sheet.title = "Estimate"
-    sheet.append(["Substation upgrade — cost estimate (EUR)"])
+    sheet.append(["Substation upgrade — cost estimate (USD)"])
     sheet.merge_cells("A1:E1")
     sheet.append([])
     sheet.append(["Item", "Low", "Most likely", "High", "Notes"])
