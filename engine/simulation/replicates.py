@@ -116,7 +116,8 @@ def simulate(
     # with more, smaller replicates for long runs (a million trials of 200 items: 100 of 10k).
     largest = None
     if pairing is not None:  # a round number, so round trial counts split evenly
-        largest = max(min_per_replicate, PAIRED_VALUES // len(dists) // 1000 * 1000)
+        rounded = PAIRED_VALUES // len(dists) // 1000 * 1000
+        largest = max(min_per_replicate, MIN_PER_REPLICATE, rounded)
     replicates, per = replicate_layout(trials, replicates, min_per_replicate, largest)
     if pairing is None:
         streams = item_streams(seed, len(dists))

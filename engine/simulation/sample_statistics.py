@@ -45,7 +45,7 @@ def _centred_ranks(rows: int, n: int) -> np.ndarray:
 class CorrelatedSampleStatistics:
     """The `observe` hook of engine.simulation.replicates.simulate for an Iman-Conover run.
 
-    Per replicate: the rank correlation achieved among the items' scores; each item's
+    Per replicate: the rank correlation achieved among the (measured) items' scores; each item's
     covariance with the total (var_i + sum_j cov_ij, its part in the total's variance); and
     each item's rank correlation with the total, ties averaged. Only items with point
     masses (risk events, discrete and fixed items) can tie, so only they are re-ranked.
@@ -53,11 +53,15 @@ class CorrelatedSampleStatistics:
     averages are the same however the two threads interleave.
     """
 
-    def __init__(self, dists: Sequence[Distribution]):
+    def __init__(self, dists: Sequence[Distribution], measured: np.ndarray | None = None):
+        """`measured`: the items whose rank correlations are gathered (all by default); the
+        items x items products cost items^2 x trials, too much for thousands of items."""
         count = len(dists)
         self.can_tie = np.array([k for k, d in enumerate(dists) if d.parts()[0]], dtype=np.intp)
         self.replicates = np.zeros(PARTS, dtype=int)
-        self.rank_sum = np.zeros((PARTS, count, count))
+        self.measured = None if measured is None or len(measured) == count else measured
+        shown = count if self.measured is None else len(self.measured)
+        self.rank_sum = np.zeros((PARTS, shown, shown))
         self.covariance_sum = np.zeros((PARTS, count))
         self.with_total_sum = np.zeros((PARTS, count))
         self.work = [Workspace() for _ in range(PARTS)]
@@ -67,7 +71,8 @@ class CorrelatedSampleStatistics:
         spread = n * (n * n - 1) / 12  # sum of squared centred ranks 0..n-1
         centred = self.work[lane].get("centred", values.shape, np.float32)  # ranks less mean
         centred.reshape(-1)[positions.ravel()] = _centred_ranks(*values.shape)
-        self.rank_sum[lane] += (centred @ centred.T).astype(float) / spread
+        some = centred if self.measured is None else centred[self.measured]
+        self.rank_sum[lane] += (some @ some.T).astype(float) / spread
 
         deviations = total - total.mean()
         self.covariance_sum[lane] += (values @ deviations) / (n - 1)
