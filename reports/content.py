@@ -247,6 +247,13 @@ def dependence_lines(dependence: Any) -> list[str]:
         a, b, aimed, got = worst
         text += f" ('{a}' with '{b}': aimed at {aimed:.2f}, achieved {got:.2f})"
     lines.append(text + ".")
+    summary = getattr(dependence, "achieved_summary", None)
+    if summary is not None and summary.pairs:
+        lines.append(
+            f"Over {summary.pairs:,} pairs of {summary.items:,} items"
+            + (" (a sample of the items)" if summary.items < len(dependence.names) else "")
+            + f", achieved and aimed at differ by {summary.mean_abs_deviation:.4f} on average."
+        )
     return lines
 
 
@@ -259,7 +266,10 @@ def matrix_table(names: list[str], matrix: Any) -> Table:
 
 def pair_table(dependence: Any) -> Table:
     """Each pair whose stated or used coefficient is not zero, largest repair first, with the
-    rank correlation the trials achieved."""
+    rank correlation the trials achieved; for many items (no matrix kept), each group's
+    pairs and the default's, measured on a sample of the items."""
+    if dependence.target is None:
+        return group_table(dependence.achieved_summary)
     names = list(dependence.names)
     achieved = getattr(dependence, "achieved", None)
     records = [
@@ -283,3 +293,15 @@ def pair_table(dependence: Any) -> Table:
         Column("Achieved", "number", lambda r: r[4]),
     ]
     return make_table(columns, records)
+
+
+def group_table(summary: Any) -> Table:
+    """Mean stated and achieved rank correlation of each group's measured pairs."""
+    columns = [
+        Column("Pairs", "text", lambda r: r[0]),
+        Column("Measured", "number", lambda r: float(r[1])),
+        Column("Stated (mean)", "number", lambda r: r[2]),
+        Column("Used (mean)", "number", lambda r: r[2]),
+        Column("Achieved (mean)", "number", lambda r: r[3]),
+    ]
+    return make_table(columns, summary.by_group)

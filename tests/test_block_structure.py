@@ -135,3 +135,45 @@ def test_many_correlated_normals_by_block_factors_match_the_closed_form(spec):
     assert summary.mean_abs_deviation < 0.01
     for _group, _pairs, aimed, achieved in summary.by_group:
         assert abs(achieved - aimed) < 0.01
+
+
+def _many(n: int, spec: CorrelationSpec) -> Estimate:
+    items = [LineItem(f"item {k}", "uniform", 10, None, 20, group=f"g{k % 8}") for k in range(n)]
+    return Estimate(items, correlation=spec)
+
+
+@pytest.mark.parametrize(
+    "spec",
+    [CorrelationSpec(default=0.3), CorrelationSpec(default=0.1, groups={"g1": 0.5, "G2": 0.4})],
+)
+def test_ten_thousand_items_are_checked_without_a_dense_matrix(spec, monkeypatch):
+    from engine.dependence import correlation
+
+    def refuse(*_args):
+        raise AssertionError("an n x n matrix was built")
+
+    monkeypatch.setattr(correlation, "build_matrix", refuse)
+    estimate = _many(10_000, spec)
+    assert estimate.problems == []
+    assert repair_preview(estimate) is None
+    aims = correlation.targets(estimate)
+    assert aims.model is not None and aims.target is None
+
+
+@pytest.mark.parametrize(
+    ("spec", "words"),
+    [
+        (CorrelationSpec(default=-0.1), "not positive semi-definite"),
+        (CorrelationSpec(default=0.3, groups={"g0": 0.1}), "not positive semi-definite"),
+        (
+            CorrelationSpec(
+                pairs=[CorrelationPair(f"item {k}", f"item {k + 1}", 0.9) for k in range(50)]
+            ),
+            "need the full",
+        ),
+    ],
+)
+def test_beyond_the_dense_route_what_blocks_cannot_carry_is_refused_in_words(spec, words):
+    problems = _many(3_001, spec).problems
+    assert len(problems) == 1
+    assert words in problems[0].message and problems[0].column == "Coefficient"

@@ -39,6 +39,7 @@ from engine.dependence.block_structure import (
     is_valid,
 )
 from engine.dependence.nearest_correlation import (
+    PSD_TOLERANCE,
     is_positive_semidefinite,
     nearest_correlation,
     smallest_eigenvalue,
@@ -56,6 +57,9 @@ WORST_PAIRS_SHOWN = 3
 # carry) are induced by block factors, with no n x n matrix (engine.dependence.block_structure);
 # below it, Iman-Conover's exact product-moment pairing is cheap and kept.
 FACTOR_ITEMS = 100
+# Above this many items, coefficients the block factors cannot carry are refused in words: the
+# dense route's n x n checks, repair and pairing would take many minutes and gigabytes.
+DENSE_ITEMS = 3_000
 # Above this many items the result keeps no n x n matrix (80 MB at 3,000 items, a sheet of
 # 9 million cells): the achieved correlations are measured on a sample of items instead.
 MATRIX_ITEMS = 300
@@ -155,7 +159,40 @@ def spec_problems(estimate: Estimate) -> list[Problem]:
                 pair.item_a,
             )
         seen.setdefault(both, (pair.coefficient, pair.row))
+    if not problems and len(estimate.items) > DENSE_ITEMS and not spec.is_independent:
+        problems.extend(too_many_for_the_dense_route(BlockStructure.from_estimate(estimate)))
     return problems
+
+
+def too_many_for_the_dense_route(structure: BlockStructure) -> list[Problem]:
+    """Beyond DENSE_ITEMS items, what the block factors cannot carry, said in words."""
+    n = len(structure.names)
+    if len(structure.pairs) <= n and factor_model(structure.pearson()) is not None:
+        return []
+    smallest = structure.smallest_eigenvalue()
+    if smallest is not None and smallest < -PSD_TOLERANCE:
+        what = (
+            f"the default and group coefficients contradict each other among {n:,} items "
+            f"(the matrix they state is not positive semi-definite; smallest eigenvalue "
+            f"{smallest:,.3f}). Among n items a common coefficient cannot be below "
+            f"-1/(n-1) = {-1 / (n - 1):.5f}, and a large group's cannot be below the default."
+        )
+    else:
+        what = (
+            f"these coefficients need the full {n:,} x {n:,} matrix (a negative default, a "
+            "group below the default, or pairs beyond what each item's own share allows), "
+            f"too large to check and simulate beyond {DENSE_ITEMS:,} items."
+        )
+    return [
+        Problem(
+            what,
+            "use a default of 0 or more, group coefficients at or above the default, and "
+            "named pairs whose extra correlation, summed for each item, stays below 1 minus "
+            "its group's coefficient; or analyse the estimate in parts.",
+            column="Coefficient",
+            sheet=SHEET,
+        )
+    ]
 
 
 def build_matrix(estimate: Estimate) -> tuple[list[str], np.ndarray]:
@@ -240,8 +277,8 @@ class RepairPreview:
 def repair_preview(estimate: Estimate) -> RepairPreview | None:
     """None when the stated matrix is valid; otherwise what the repair would change. A
     default and group coefficients are checked in block form (no n x n matrix)."""
-    if is_valid(BlockStructure.from_estimate(estimate)):
-        return None
+    if len(estimate.items) > DENSE_ITEMS or is_valid(BlockStructure.from_estimate(estimate)):
+        return None  # beyond DENSE_ITEMS, spec_problems says what is wrong instead
     names, target = build_matrix(estimate)
     if is_positive_semidefinite(target):
         return None
