@@ -16,7 +16,7 @@ import numpy as np
 from scipy import sparse
 
 from engine.dependence.block_structure import FactorModel
-from engine.simulation.ranking import orders
+from engine.simulation.ranking import unit_score_orders
 from engine.simulation.workspace import Workspace
 
 
@@ -50,4 +50,6 @@ class FactorPairing:
             z += self.pair_terms @ rng.standard_normal(
                 (self.pair_terms.shape[1], n), dtype=np.float32
             )
-        return orders(z, out=work.get("keys", (items, n), np.uint64))
+        return unit_score_orders(
+            z, out=work.get("positions", (items, n), np.intp), work=shared.view(np.uint32)
+        )
