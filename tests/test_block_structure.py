@@ -111,6 +111,9 @@ def _normal(name: str, mean: float, sd: float, group: str) -> LineItem:
         CorrelationSpec(default=0.3),
         CorrelationSpec(default=0.1, groups={"crew 0": 0.7, "crew 1": 0.4}),
         CorrelationSpec(groups={"crew 2": 0.5}, pairs=[CorrelationPair("task 0", "task 1", -0.4)]),
+        CorrelationSpec(groups={"crew 0": 1.0, "crew 1": 1.0, "crew 2": 1.0}),  # comonotone
+        CorrelationSpec(default=1.0),
+        CorrelationSpec(default=0.95, groups={"crew 1": 1.0}),
     ],
 )
 def test_many_correlated_normals_by_block_factors_match_the_closed_form(spec):
