@@ -66,9 +66,15 @@ def dependence_text(analysis: Analysis, unit: str = "") -> str:
         )
     text += (
         " Largest difference between stated and achieved rank correlation: "
-        f"{dependence.achieved_max_deviation:.3f}."
+        f"{dependence.achieved_max_deviation:.3f}"
     )
-    return text
+    summary = dependence.achieved_summary
+    if summary is not None and summary.pairs:
+        sample = " (a sample of the items)" if summary.items < len(dependence.names) else ""
+        text += (
+            f", {summary.mean_abs_deviation:.3f} on average over {summary.pairs:,} pairs{sample}"
+        )
+    return text + "."
 
 
 def headline_row(analysis: Analysis):
