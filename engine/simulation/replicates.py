@@ -68,6 +68,7 @@ def sorted_designs(
     order: np.ndarray,
     sampling: str,
     out: np.ndarray | None = None,
+    mirrored: np.ndarray | None = None,
 ) -> np.ndarray:
     """(items, n) scores, each row in increasing order, for items whose k-th smallest value
     goes to trial order[i, k]: a Latin hypercube's point in each of n strata, or n plain
@@ -79,13 +80,16 @@ def sorted_designs(
     total is exactly the sum of their percentiles. With a position of their own, each
     replicate's total fell short of that at one end of every stratum and over it at the
     other: percentiles off by up to 10 standard errors, which the replicates, all sharing
-    the same strata, could not see."""
+    the same strata, could not see. Items in `mirrored` (rows) sit at 1 - w_t instead, so an
+    item ranked against the others (rank correlation -1) is exactly countermonotone."""
     rows, n = order.shape
     if sampling != "lhs":
         u = rng.random((rows, n), out=out)
         u.sort(axis=1)
         return u
     u = rng.random(n).take(order, out=out)
+    if mirrored is not None and len(mirrored):
+        u[mirrored] = 1 - u[mirrored]
     u += _strata(n)
     u /= n
     return u
@@ -146,6 +150,7 @@ def _paired(
     lanes = halves(replicates)
     seeds = np.random.SeedSequence(seed).spawn(replicates)
     sampler = BatchSampler(dists)
+    mirrored = getattr(pairing, "mirrored", None)  # items ranked against the rest
     row_starts = (np.arange(count) * per)[:, None]
     done = [0] * len(lanes)
 
@@ -157,7 +162,7 @@ def _paired(
             pairing_rng, design_rng = (np.random.default_rng(s) for s in seeds[r].spawn(2))
             positions = pairing(pairing_rng, count, per, work)
             design = sorted_designs(
-                design_rng, positions, sampling, out=work.get("u", shape, float)
+                design_rng, positions, sampling, work.get("u", shape, float), mirrored
             )
             positions += row_starts  # order within each row -> index into values.ravel()
             drawn = sampler(design, out=work.get("drawn", shape, float))
