@@ -10,7 +10,8 @@ Cases (100k Latin hypercube trials each, invented estimates):
 
 Timings are interleaved in one process (A, B, A, B...) after a first run that builds each PERT
 item's sampling tables; min and median are printed with their ratios. Peak memory is each
-case's own, from a fresh subprocess (ru_maxrss). Achieved rank correlations are printed
+case's own, from a fresh subprocess (VmHWM: ru_maxrss would carry this process's peak
+across fork and exec). Achieved rank correlations are printed
 against the stated ones (mean and largest |difference| over the measured pairs).
 
 Run: .venv/bin/python bench/bench_correlation.py [--quick]
@@ -95,7 +96,7 @@ def interleaved(runs: dict[str, Callable[[], object]]) -> dict[str, list[float]]
 
 
 MEMORY_CASE = r"""
-import json, resource, sys
+import json, sys
 sys.path.insert(0, {root!r})
 sys.path.insert(0, {bench!r})
 from bench_correlation import TRIALS, dense_route, invented_estimate
@@ -109,7 +110,8 @@ elif {how!r} == "dense":
     dense_route(estimate)
 else:
     analyze(estimate, trials=TRIALS, seed=1)
-print(json.dumps(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024))
+status = open("/proc/self/status").read().split("VmHWM:")[1]
+print(json.dumps(int(status.split()[0]) / 1024))
 """
 
 

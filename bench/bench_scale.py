@@ -67,7 +67,8 @@ start = time.perf_counter()
 code = main({argv!r})
 usage = resource.getrusage(resource.RUSAGE_SELF)
 print(json.dumps({{"seconds": time.perf_counter() - start, "cpu": usage.ru_utime + usage.ru_stime,
-                  "peak_mb": usage.ru_maxrss / 1024, "code": code}}))
+                  "peak_mb": int(open("/proc/self/status").read().split("VmHWM:")[1].split()[0]) / 1024,
+                  "code": code}}))
 """
 
 PROJECT = r"""
