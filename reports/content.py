@@ -299,7 +299,7 @@ def group_table(summary: Any) -> Table:
     """Mean stated and achieved rank correlation of each group's measured pairs."""
     columns = [
         Column("Pairs", "text", lambda r: r[0]),
-        Column("Measured", "number", lambda r: float(r[1])),
+        Column("Pairs measured", "text", lambda r: f"{r[1]:,}"),
         Column("Stated (mean)", "number", lambda r: r[2]),
         Column("Used (mean)", "number", lambda r: r[2]),
         Column("Achieved (mean)", "number", lambda r: r[3]),

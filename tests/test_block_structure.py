@@ -180,3 +180,20 @@ def test_beyond_the_dense_route_what_blocks_cannot_carry_is_refused_in_words(spe
     problems = _many(3_001, spec).problems
     assert len(problems) == 1
     assert words in problems[0].message and problems[0].column == "Coefficient"
+
+
+def test_report_summarises_achieved_correlations_by_group_when_no_matrix_is_kept():
+    from reports import content
+
+    items = [_normal(f"task {k}", 50.0, 3.0, f"crew {k % 2}") for k in range(320)]
+    spec = CorrelationSpec(default=0.2, groups={"crew 1": 0.6})
+    analysis = analyze(Estimate(items, correlation=spec), trials=20_000, seed=2)
+    dependence = analysis.dependence
+    table = content.pair_table(dependence)
+    rows = {row[0]: row for row in table.rows}
+    assert set(rows) == {"(default)", "crew 1"}
+    assert rows["crew 1"][2] == pytest.approx(0.6) and abs(rows["crew 1"][4] - 0.6) < 0.01
+    assert "a sample of the items" in " ".join(content.dependence_lines(dependence))
+    data = analysis.to_dict()["dependence"]
+    assert data["target"] is None and data["achieved_summary"]["items"] == 300
+    assert data["induced_by"] == "block factors"
