@@ -116,3 +116,21 @@ def test_achieved_correlation_of_comonotone_items_is_never_above_one(trials):
     achieved = analyze(estimate, trials=trials, seed=3).dependence.achieved
     assert achieved.max() <= 1.0
     assert np.allclose(achieved, 1.0, atol=1e-5)
+
+
+def test_shared_within_stratum_position_keeps_each_item_a_latin_hypercube():
+    # McKay, Beckman & Conover (1979), Technometrics 21(2): a Latin hypercube puts exactly
+    # one point in each of the n equal strata of every margin, uniform within it.
+    from engine.simulation.ranking import random_permutations
+    from engine.simulation.replicates import sorted_designs
+
+    rng = np.random.default_rng(8)
+    order = random_permutations(rng, 6, 1000)
+    u = sorted_designs(rng, order, "lhs", mirrored=np.array([2, 5]))
+    strata = np.floor(u * 1000)
+    assert np.array_equal(strata, np.broadcast_to(np.arange(1000), (6, 1000)))
+    within = u * 1000 - strata  # the trial's position: shared, mirrored on rows 2 and 5
+    by_trial = np.empty_like(within)
+    np.put_along_axis(by_trial, order, within, axis=1)
+    assert np.allclose(by_trial[1], by_trial[0]) and np.allclose(by_trial[2], 1 - by_trial[0])
+    assert abs(by_trial[0].mean() - 0.5) < 0.03  # uniform: mean 1/2, sd 1/sqrt(12 * 1000)
