@@ -197,3 +197,14 @@ def test_report_summarises_achieved_correlations_by_group_when_no_matrix_is_kept
     data = analysis.to_dict()["dependence"]
     assert data["target"] is None and data["achieved_summary"]["items"] == 300
     assert data["induced_by"] == "block factors"
+
+
+def test_building_pert_tables_reports_progress_and_can_be_cancelled():
+    from engine import Cancelled
+
+    items = [LineItem(f"stage {k}", "pert", 10, 12 + k % 7, 30 + k % 5) for k in range(240)]
+    estimate = Estimate(items, correlation=CorrelationSpec(default=0.2))
+    seen: list[float] = []
+    with pytest.raises(Cancelled):
+        analyze(estimate, trials=20_000, seed=1, progress=seen.append, cancel=lambda: bool(seen))
+    assert len(seen) == 1 and seen[0] <= 0.05  # stopped while the tables were being built
