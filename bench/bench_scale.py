@@ -3,9 +3,9 @@
 Each case runs in a fresh subprocess so its peak resident memory (ru_maxrss) is its own.
 The reference is what a straightforward script does: draw the whole trials x items matrix
 with numpy and sum it. The correlated cases run the command line itself (`check`, and
-`report` to JSON; the PDF's item pages at this size are a layout matter of their own) on an invented project file of 10,000 items with a default
-correlation of 0.3, or eight groups at 0.5; targets: `check` under 5 s, `report` under 30 s
-and 1.5 GB. CPU seconds are printed beside the wall clock: on a shared machine the wall
+`report` to JSON; the PDF's item pages at this size are a layout matter of their own) on an
+invented project file of 10,000 items with a default correlation of 0.3, or eight groups at
+0.5; targets: `check` under 5 s, `report` under 30 s and 1.5 GB. CPU seconds are printed beside the wall clock: on a shared machine the wall
 clock measures the other users too. Run: .venv/bin/python bench/bench_scale.py [--quick]
 """
 
