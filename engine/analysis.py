@@ -18,12 +18,13 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from engine.dependence.block_structure import BlockStructure
 from engine.dependence.correlation import (
     SHEET,
     Dependence,
     Targets,
     achieved_against,
-    build_matrix,
+    measured_items,
     targets,
 )
 from engine.exact.convolution import cumulants_of, exact_total
@@ -45,6 +46,7 @@ from engine.shortcut.normal import (
     sum_of_item_percentiles,
 )
 from engine.shortcut.verdict import count, dependence_reasons, reasons_for, summary_sentence
+from engine.simulation.factor_pairing import FactorPairing
 from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
@@ -233,7 +235,12 @@ def analyze(
             else f"{count(linked, 'pair')} of items {'is' if linked == 1 else 'are'} correlated,"
             " so the total is simulated"
             " (exact convolution needs independent items)"
-        ) + "; the correlations are induced by Iman–Conover"
+        ) + (
+            "; the correlations are induced by block factors (a default and group"
+            " coefficients, no n x n matrix)"
+            if aims.model is not None
+            else "; the correlations are induced by Iman–Conover"
+        )
         if aims.repaired:
             why += " on the nearest valid correlation matrix (repair accepted)"
         if aims.pearson_repaired:
@@ -294,9 +301,8 @@ def analyze(
 def correlated_pairs(estimate: Estimate) -> int:
     """How many pairs of items have a non-zero stated coefficient."""
     if estimate.correlation.is_independent:
-        return 0  # no n x n matrix for the common case: it is 800 MB at 10,000 items
-    _, matrix = build_matrix(estimate)
-    return int(np.count_nonzero(np.triu(matrix, k=1)))
+        return 0
+    return BlockStructure.from_estimate(estimate).linked_pairs()  # no n x n matrix
 
 
 def _check_correlated_settings(method: str, trials: int, items: int, linked: int) -> None:
@@ -331,8 +337,10 @@ def simulate_correlated(
     tracker: Progress,
 ) -> tuple[Total, Dependence, CorrelatedSampleStatistics]:
     """The correlated simulation, its sample statistics, and the same items independent."""
-    pairing = ImanConoverPairing(aims.pearson_used)
-    stats = CorrelatedSampleStatistics(dists)
+    factored = aims.model is not None
+    pairing = FactorPairing(aims.model) if factored else ImanConoverPairing(aims.pearson_used)
+    measured = measured_items(aims.structure)
+    stats = CorrelatedSampleStatistics(dists, measured)
     pending = beside(lambda: exact_total(dists, progress=tracker.silent(), check_error=False))
     try:
         total = simulate(
@@ -342,22 +350,27 @@ def simulate_correlated(
             sampling=sampling,
             pairing=pairing,
             observe=stats,
-            min_per_replicate=2 * len(dists),
+            min_per_replicate=0 if factored else 2 * len(dists),
             progress=tracker,
         )
         independent = pending.result()
     finally:
         pending.cancel()
     sds = np.array([d.sd for d in dists])
-    deviation, worst = achieved_against(aims, stats.achieved)
+    deviation, worst, summary = achieved_against(aims, stats.achieved, measured)
     dependence = Dependence(
         **vars(aims),
-        achieved=stats.achieved,
+        achieved=stats.achieved if len(measured) == len(dists) else None,
         achieved_max_deviation=deviation,
         worst_achieved=worst,
-        shortcut_variance=correlated_normal_variance(sds, aims.pearson_used),
+        shortcut_variance=(
+            aims.structure.pearson().quadratic_form(sds)
+            if factored
+            else correlated_normal_variance(sds, aims.pearson_used)
+        ),
         sd_dependent=total.sd,
         independent_total=independent,
+        achieved_summary=summary,
     )
     return total, dependence, stats
 

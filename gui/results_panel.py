@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
 
 from charts import numbers
 from engine import Analysis
+from engine.dependence.block_structure import correlated_counts as block_counts
 from gui.allocation_panel import AllocationPanel
 from gui.chart_canvas import ChartCanvas
 from gui.level_table import LevelTable
@@ -83,13 +84,22 @@ def dependence_text(analysis: Analysis, unit: str = "") -> str:
         )
     text += (
         " Largest difference between stated and achieved rank correlation: "
-        f"{numbers.statistic(dependence.achieved_max_deviation, 3)}."
+        f"{numbers.statistic(dependence.achieved_max_deviation, 3)}"
     )
-    return text
+    summary = dependence.achieved_summary
+    if summary is not None and summary.pairs:
+        sample = " (a sample of the items)" if summary.items < len(dependence.names) else ""
+        text += (
+            f", {numbers.statistic(summary.mean_abs_deviation, 3)} on average over"
+            f" {numbers.count(summary.pairs, 'pair')}{sample}"
+        )
+    return text + "."
 
 
 def correlated_counts(dependence) -> tuple[int, int]:
     """Pairs with a non-zero coefficient in use, and the items they involve."""
+    if dependence.used is None:  # block factors at scale: counted from the blocks
+        return block_counts(dependence.structure)
     used = np.asarray(dependence.used)
     upper = np.triu(used != 0, k=1)
     return int(upper.sum()), int((upper | upper.T).any(axis=0).sum())

@@ -276,6 +276,9 @@ def dependence_lines(dependence: Any) -> list[str]:
     else:
         lines.append("The stated correlations form a valid matrix and were used as stated.")
     lines.append(achieved_text(dependence))
+    summary = achieved_summary_line(dependence)
+    if summary:
+        lines.append(summary)
     return lines
 
 
@@ -297,6 +300,19 @@ def achieved_text(dependence: Any) -> str:
     return text + "."
 
 
+def achieved_summary_line(dependence: Any) -> str | None:
+    """For large estimates the achieved correlations are measured on a sample of pairs."""
+    summary = getattr(dependence, "achieved_summary", None)
+    if summary is None or not summary.pairs:
+        return None
+    sample = " (a sample of the items)" if summary.items < len(dependence.names) else ""
+    return (
+        f"Over {numbers.count(summary.pairs, 'pair')} of {numbers.count(summary.items, 'item')}"
+        f"{sample}, achieved and aimed at differ by "
+        f"{numbers.statistic(summary.mean_abs_deviation, 4)} on average."
+    )
+
+
 def matrix_table(names: list[str], matrix: Any) -> Table:
     columns = [Column("Item", "text", lambda r: r[0])] + [
         Column(n, "coefficient", lambda r, k=k: float(r[1][k])) for k, n in enumerate(names)
@@ -306,7 +322,10 @@ def matrix_table(names: list[str], matrix: Any) -> Table:
 
 def pair_table(dependence: Any) -> Table:
     """Each pair whose stated or used coefficient is not zero, largest repair first, with the
-    rank correlation the trials achieved."""
+    rank correlation the trials achieved; for many items (no matrix kept), each group's
+    pairs and the default's, measured on a sample of the items."""
+    if dependence.target is None:
+        return group_table(dependence.achieved_summary)
     names = list(dependence.names)
     achieved = getattr(dependence, "achieved", None)
     records = [
@@ -330,3 +349,15 @@ def pair_table(dependence: Any) -> Table:
         Column("Achieved", "coefficient", lambda r: r[4]),
     ]
     return make_table(columns, records)
+
+
+def group_table(summary: Any) -> Table:
+    """Mean stated and achieved rank correlation of each group's measured pairs."""
+    columns = [
+        Column("Pairs", "text", lambda r: r[0]),
+        Column("Pairs measured", "text", lambda r: f"{r[1]:,}"),
+        Column("Stated (mean)", "number", lambda r: r[2]),
+        Column("Used (mean)", "number", lambda r: r[2]),
+        Column("Achieved (mean)", "number", lambda r: r[3]),
+    ]
+    return make_table(columns, summary.by_group)

@@ -198,12 +198,14 @@ def _dependence_sheet(book: Workbook, dependence: Any) -> None:
     for line in content.dependence_lines(dependence):
         put(sheet, row, 1, line)
         row += 1
-    row += 1
-    put(sheet, row, 1, "Rank correlations as stated (target)").font = BOLD
-    row = put_table(sheet, row + 1, content.matrix_table(list(dependence.names), dependence.target))
-    row += 1
-    put(sheet, row, 1, "Rank correlations used (after any repair)").font = BOLD
-    row = put_table(sheet, row + 1, content.matrix_table(list(dependence.names), dependence.used))
+    for title, matrix in (
+        ("Rank correlations as stated (target)", dependence.target),
+        ("Rank correlations used (after any repair)", dependence.used),
+    ):
+        if matrix is not None:  # None for many items: the pairs table summarises by group
+            row += 1
+            put(sheet, row, 1, title).font = BOLD
+            row = put_table(sheet, row + 1, content.matrix_table(list(dependence.names), matrix))
     row += 1
     put(sheet, row, 1, "Pairs: stated, used and achieved in the trials").font = BOLD
     put_table(sheet, row + 1, content.pair_table(dependence))

@@ -32,7 +32,14 @@ from typing import Any
 
 import numpy as np
 
+from engine.dependence.block_structure import (
+    BlockStructure,
+    FactorModel,
+    factor_model,
+    is_valid,
+)
 from engine.dependence.nearest_correlation import (
+    PSD_TOLERANCE,
     is_positive_semidefinite,
     nearest_correlation,
     smallest_eigenvalue,
@@ -46,6 +53,16 @@ PEARSON_FORMULA = "r = 2 sin(pi r_s / 6) (Pearson 1907, normal copula)"
 SHORTCUT_FORMULA = "Var = sum_i sum_j r_ij s_i s_j, " + PEARSON_FORMULA
 # Pairs named in the message that refuses an invalid matrix.
 WORST_PAIRS_SHOWN = 3
+# From this many items up, a default and group coefficients (and pairs the factor form can
+# carry) are induced by block factors, with no n x n matrix (engine.dependence.block_structure);
+# below it, Iman-Conover's exact product-moment pairing is cheap and kept.
+FACTOR_ITEMS = 100
+# Above this many items, coefficients the block factors cannot carry are refused in words: the
+# dense route's n x n checks, repair and pairing would take many minutes and gigabytes.
+DENSE_ITEMS = 3_000
+# Above this many items the result keeps no n x n matrix (80 MB at 3,000 items, a sheet of
+# 9 million cells): the achieved correlations are measured on a sample of items instead.
+MATRIX_ITEMS = 300
 
 
 def _key(name: str) -> str:
@@ -142,7 +159,40 @@ def spec_problems(estimate: Estimate) -> list[Problem]:
                 pair.item_a,
             )
         seen.setdefault(both, (pair.coefficient, pair.row))
+    if not problems and len(estimate.items) > DENSE_ITEMS and not spec.is_independent:
+        problems.extend(too_many_for_the_dense_route(BlockStructure.from_estimate(estimate)))
     return problems
+
+
+def too_many_for_the_dense_route(structure: BlockStructure) -> list[Problem]:
+    """Beyond DENSE_ITEMS items, what the block factors cannot carry, said in words."""
+    n = len(structure.names)
+    if len(structure.pairs) <= n and factor_model(structure.pearson()) is not None:
+        return []
+    smallest = structure.smallest_eigenvalue()
+    if smallest is not None and smallest < -PSD_TOLERANCE:
+        what = (
+            f"the default and group coefficients contradict each other among {n:,} items "
+            f"(the matrix they state is not positive semi-definite; smallest eigenvalue "
+            f"{smallest:,.3f}). Among n items a common coefficient cannot be below "
+            f"-1/(n-1) = {-1 / (n - 1):.5f}, and a large group's cannot be below the default."
+        )
+    else:
+        what = (
+            f"these coefficients need the full {n:,} x {n:,} matrix (a negative default, a "
+            "group below the default, or pairs beyond what each item's own share allows), "
+            f"too large to check and simulate beyond {DENSE_ITEMS:,} items."
+        )
+    return [
+        Problem(
+            what,
+            "use a default of 0 or more, group coefficients at or above the default, and "
+            "named pairs whose extra correlation, summed for each item, stays below 1 minus "
+            "its group's coefficient; or analyse the estimate in parts.",
+            column="Coefficient",
+            sheet=SHEET,
+        )
+    ]
 
 
 def build_matrix(estimate: Estimate) -> tuple[list[str], np.ndarray]:
@@ -225,7 +275,10 @@ class RepairPreview:
 
 
 def repair_preview(estimate: Estimate) -> RepairPreview | None:
-    """None when the stated matrix is valid; otherwise what the repair would change."""
+    """None when the stated matrix is valid; otherwise what the repair would change. A
+    default and group coefficients are checked in block form (no n x n matrix)."""
+    if len(estimate.items) > DENSE_ITEMS or is_valid(BlockStructure.from_estimate(estimate)):
+        return None  # beyond DENSE_ITEMS, spec_problems says what is wrong instead
     names, target = build_matrix(estimate)
     if is_positive_semidefinite(target):
         return None
@@ -248,20 +301,54 @@ def repair_preview(estimate: Estimate) -> RepairPreview | None:
 
 @dataclass(frozen=True)
 class Targets:
-    """The rank matrix the simulation aims at and the normal-score correlation it induces."""
+    """The rank matrix the simulation aims at and the normal-score correlation it induces.
+
+    With block factors (`model` set) the matrices are kept only up to MATRIX_ITEMS items
+    (None above); `structure` always says what was stated, in rank terms."""
 
     names: list[str]
-    target: np.ndarray
-    used: np.ndarray
+    target: np.ndarray | None
+    used: np.ndarray | None
     repaired: bool
     largest_change: tuple[str, str, float, float] | None
-    pearson_used: np.ndarray
+    pearson_used: np.ndarray | None
     pearson_repaired: bool
+    structure: BlockStructure
+    model: FactorModel | None
+
+
+def factor_targets(estimate: Estimate, structure: BlockStructure) -> Targets | None:
+    """Targets induced by block factors, when the items are many enough for it to pay, the
+    stated coefficients hold together and have a factor form."""
+    n = len(structure.names)
+    if n < FACTOR_ITEMS or len(structure.pairs) > n or not is_valid(structure):
+        return None
+    pearson = structure.pearson()
+    model = factor_model(pearson)
+    if model is None:
+        return None
+    small = n <= MATRIX_ITEMS
+    target = structure.dense() if small else None
+    return Targets(
+        structure.names,
+        target,
+        target,
+        False,
+        None,
+        pearson.dense() if small else None,
+        False,
+        structure,
+        model,
+    )
 
 
 def targets(estimate: Estimate) -> Targets:
     """Checked targets; raises InputError naming the worst pairs when the stated matrix is
     invalid and the user has not accepted its repair."""
+    structure = BlockStructure.from_estimate(estimate)
+    factored = factor_targets(estimate, structure)
+    if factored is not None:
+        return factored
     names, target = build_matrix(estimate)
     preview = repair_preview(estimate)
     used, change = target, None
@@ -287,11 +374,51 @@ def targets(estimate: Estimate) -> Targets:
     pearson_repaired = not is_positive_semidefinite(pearson)
     if pearson_repaired:
         pearson = nearest_correlation(pearson).matrix
-    return Targets(names, target, used, preview is not None, change, pearson, pearson_repaired)
+    return Targets(
+        names,
+        target,
+        used,
+        preview is not None,
+        change,
+        pearson,
+        pearson_repaired,
+        structure,
+        None,
+    )
 
 
-def _jsonable(matrix: np.ndarray) -> list[list[float]]:
-    return [[float(v) for v in row] for row in matrix]
+def _jsonable(matrix: np.ndarray | None) -> list[list[float]] | None:
+    return None if matrix is None else [[float(v) for v in row] for row in matrix]
+
+
+@dataclass(frozen=True)
+class AchievedSummary:
+    """The achieved rank correlations in a few figures, over every pair of the measured
+    items (all items up to MATRIX_ITEMS, a sample of them above), and for each group's
+    pairs and the pairs under the default."""
+
+    items: int  # measured
+    pairs: int
+    mean_abs_deviation: float
+    max_abs_deviation: float
+    # (group, or DEFAULT_PAIRS for pairs across groups; pairs measured; mean aimed at;
+    # mean achieved)
+    by_group: list[tuple[str, int, float, float]]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "items": self.items,
+            "pairs": self.pairs,
+            "mean_abs_deviation": self.mean_abs_deviation,
+            "max_abs_deviation": self.max_abs_deviation,
+            "by_group": [
+                {"group": g, "pairs": n, "aimed": aim, "achieved": got}
+                for g, n, aim, got in self.by_group
+            ],
+        }
+
+
+DEFAULT_PAIRS = "(default)"
 
 
 @dataclass(frozen=True)
@@ -299,11 +426,12 @@ class Dependence(Targets):
     """What the analysis did with the stated correlations, and what it achieved.
 
     `achieved` is the rank correlation of the items' scores, averaged over the replicates:
-    the quantity Iman-Conover controls. Items with point masses (risk events, discrete
-    items) tie on their values, so the rank correlation of their values is lower.
+    the quantity the pairing controls. Items with point masses (risk events, discrete
+    items) tie on their values, so the rank correlation of their values is lower. Above
+    MATRIX_ITEMS items it is None and `achieved_summary` covers a sample of the items.
     """
 
-    achieved: np.ndarray
+    achieved: np.ndarray | None
     achieved_max_deviation: float
     worst_achieved: tuple[str, str, float, float] | None  # a, b, aimed at, achieved
     shortcut_variance: float  # sum_i sum_j r_ij s_i s_j, r from PEARSON_FORMULA
@@ -311,6 +439,7 @@ class Dependence(Targets):
     independent_total: Total  # the same items with every coefficient 0, exact
     pearson_formula: str = PEARSON_FORMULA
     shortcut_formula: str = SHORTCUT_FORMULA
+    achieved_summary: AchievedSummary | None = None
 
     @property
     def sd_independent(self) -> float:
@@ -327,30 +456,83 @@ class Dependence(Targets):
             "pearson_repaired": self.pearson_repaired,
             "pearson_formula": self.pearson_formula,
             "shortcut_formula": self.shortcut_formula,
+            "induced_by": "block factors" if self.model is not None else "Iman-Conover",
             "achieved": _jsonable(self.achieved),
             "achieved_max_deviation": self.achieved_max_deviation,
             "worst_achieved": list(self.worst_achieved) if self.worst_achieved else None,
+            "achieved_summary": (
+                None if self.achieved_summary is None else self.achieved_summary.to_dict()
+            ),
             "shortcut_variance": self.shortcut_variance,
             "sd_dependent": self.sd_dependent,
             "sd_independent": self.sd_independent,
         }
 
 
-def achieved_against(
-    aims: Targets, achieved: np.ndarray
-) -> tuple[float, tuple[str, str, float, float] | None]:
-    """Largest |achieved - aimed at| over the pairs, and that pair. The aim is the used rank
-    matrix, or the rank equivalent of the normal-score matrix when that was repaired too."""
+def measured_items(structure: BlockStructure, limit: int = MATRIX_ITEMS) -> np.ndarray:
+    """Every item up to `limit`; above it a sample of `limit`: two of each group and the
+    items of named pairs first (as many as fit), the rest evenly spaced."""
+    n = len(structure.names)
+    if n <= limit:
+        return np.arange(n)
+    chosen: dict[int, None] = {}
+    for k in range(1, len(structure.labels)):
+        for i in np.flatnonzero(structure.block == k)[:2]:
+            chosen[int(i)] = None
+    for p in structure.pairs:
+        chosen[p.a] = chosen[p.b] = None
+    picked = list(chosen)[:limit]
+    spare = np.setdiff1d(np.arange(n), picked)
+    fill = spare[np.linspace(0, len(spare) - 1, limit - len(picked)).astype(np.intp)]
+    return np.sort(np.concatenate([np.array(picked, dtype=np.intp), fill]))
+
+
+def _aim(aims: Targets, measured: np.ndarray) -> np.ndarray:
+    """The rank correlations aimed at among the measured items: the used rank matrix, or
+    the rank equivalent of the normal-score matrix when that was repaired too."""
+    if aims.used is None:
+        return aims.structure.dense(measured)
     aim = pearson_to_rank(aims.pearson_used) if aims.pearson_repaired else aims.used
-    if len(aims.names) < 2:
-        return 0.0, None
-    first, second = np.triu_indices(len(aims.names), k=1)
+    return aim[np.ix_(measured, measured)]
+
+
+def achieved_against(
+    aims: Targets, achieved: np.ndarray, measured: np.ndarray
+) -> tuple[float, tuple[str, str, float, float] | None, AchievedSummary]:
+    """Largest |achieved - aimed at| over the pairs of the measured items, that pair, and
+    the summary. `achieved` is among the measured items."""
+    aim = _aim(aims, measured)
+    first, second = np.triu_indices(len(measured), k=1)
     deviation = np.abs(achieved - aim)[first, second]
+    blocks = aims.structure.block[measured]
+    same = blocks[first] == blocks[second]
+    by_group = []
+    for k, label in enumerate(aims.structure.labels):
+        inside = same & (blocks[first] == k) if label else ~same | (blocks[first] == 0) & same
+        if np.any(inside):
+            by_group.append(
+                (
+                    label or DEFAULT_PAIRS,
+                    int(inside.sum()),
+                    float(aim[first[inside], second[inside]].mean()),
+                    float(achieved[first[inside], second[inside]].mean()),
+                )
+            )
+    if not len(deviation):
+        return 0.0, None, AchievedSummary(len(measured), 0, 0.0, 0.0, by_group)
     k = int(np.argmax(deviation))
     a, b = int(first[k]), int(second[k])
-    return float(deviation[k]), (
-        aims.names[a],
-        aims.names[b],
+    summary = AchievedSummary(
+        len(measured),
+        len(deviation),
+        float(deviation.mean()),
+        float(deviation[k]),
+        by_group,
+    )
+    worst = (
+        aims.names[measured[a]],
+        aims.names[measured[b]],
         float(aim[a, b]),
         float(achieved[a, b]),
     )
+    return float(deviation[k]), worst, summary

@@ -78,6 +78,19 @@ def induce(s: np.ndarray, target_factor: np.ndarray, out: np.ndarray | None = No
     return np.matmul(mixing.astype(s.dtype), s, out=out)
 
 
+def against_the_rest(pearson: np.ndarray) -> np.ndarray:
+    """Items on the minority side of the leading eigenvector of the target: those ranked
+    against the others (a pair at -1: one of the two). With positive coefficients there are
+    none (Perron-Frobenius). The Latin hypercube mirrors their within-stratum position, so a
+    pair at -1 is exactly countermonotone (engine.simulation.replicates.sorted_designs)."""
+    if len(pearson) < 2:
+        return np.array([], dtype=np.intp)
+    leading = np.linalg.eigh(pearson)[1][:, -1]
+    if np.sum(leading < 0) > np.sum(leading > 0):
+        leading = -leading
+    return np.flatnonzero(leading < -1e-9)
+
+
 class ImanConoverPairing:
     """The `pairing` hook of engine.simulation.replicates.simulate: for one replicate, each item's
     trials in the order of its column of T, so every item keeps its own sample exactly
@@ -88,7 +101,9 @@ class ImanConoverPairing:
     """
 
     def __init__(self, pearson: np.ndarray):
-        self.factor = square_root(np.asarray(pearson, dtype=float))
+        pearson = np.asarray(pearson, dtype=float)
+        self.factor = square_root(pearson)
+        self.mirrored = against_the_rest(pearson)
 
     def __call__(self, rng: np.random.Generator, items: int, n: int, work: Workspace) -> np.ndarray:
         if n <= items:

@@ -56,3 +56,35 @@ def random_permutations(
     keys.sort(axis=-1)
     keys &= mask
     return keys.view(np.intp)
+
+
+def unit_score_orders(
+    z: np.ndarray, out: np.ndarray | None = None, work: np.ndarray | None = None
+) -> np.ndarray:
+    """Per row, the column indices in increasing order of z (float32 scores of unit
+    variance, rows x n), by sorting 32-bit keys: about a tenth of the 64-bit sort's time
+    (numpy's vectorised 32-bit kernels). The score is read on an even grid over
+    [-SCORE_SPAN, SCORE_SPAN] in the bits the index leaves free (2^23 steps for 500
+    columns): scores closer than a step tie and keep their column order. Columns are
+    exchangeable trials, so a tie is a random swap of neighbouring ranks, far below what a
+    rank correlation can show; equal rows still get equal orders. `z` is overwritten; `out`
+    (intp) and `work` (uint32), both rows x n, are work arrays."""
+    rows, n = z.shape
+    bits = max(int(n - 1).bit_length(), 1)
+    if bits > 20 or z.dtype != np.float32:
+        raise ValueError("unit_score_orders() takes float32 rows of at most 2^20 values.")
+    levels = float(1 << (32 - bits))
+    np.add(z, np.float32(SCORE_SPAN), out=z)
+    np.multiply(z, np.float32(levels / (2 * SCORE_SPAN)), out=z)
+    np.clip(z, 0, np.float32(levels - 256), out=z)  # float32 rounds near 2^31: stay below
+    keys = np.empty((rows, n), dtype=np.uint32) if work is None else work
+    keys[...] = z
+    keys <<= np.uint32(bits)
+    keys |= np.arange(n, dtype=np.uint32)
+    keys.sort(axis=-1)
+    positions = np.empty((rows, n), dtype=np.intp) if out is None else out
+    np.bitwise_and(keys, np.uint32((1 << bits) - 1), out=positions)
+    return positions
+
+
+SCORE_SPAN = 8.0  # |z| beyond 8 has probability 1e-15 for a unit normal score
