@@ -8,8 +8,13 @@ The items' arrays are then convolved pairwise in a balanced tree with FFTs, trim
 negligible tails after each step, so the cost grows with the total's spread rather than
 with the sum of the items' ranges.
 
-The step is a fraction of the total's standard deviation; the same total computed at twice
-the step gives the error estimate reported with every exact result.
+Each hat spreads its item by a known variance (about h^2/6); summed over thousands of items
+that spread would move the percentiles by more than the grid's own error, so the total's
+spectrum is sharpened by exactly that variance at the end (engine.exact.grid_spread).
+
+The step follows where the probability is (engine.exact.grid_plan), not the total's sd; an
+item too wide for any grid is evaluated by its own cdf (engine.exact.wide_item). The same
+total at twice the step gives the error estimate reported with every exact result.
 """
 
 from __future__ import annotations
@@ -21,16 +26,21 @@ import numpy as np
 from scipy import fft as sp_fft
 from scipy import signal
 
-from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total
-from engine.families.distributions import Beta, Distribution, Fixed, Triangular, Uniform
+from engine.exact.grid_plan import part_range, plan_grid
+from engine.exact.grid_spread import HatSpread, sharpened
+from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total, coarsen
+from engine.exact.wide_item import wide_item_total
+from engine.families.distributions import Distribution, Fixed
 from engine.progress import Progress
 from engine.threads import run_pair
 
-# Grid steps per standard deviation of the total. At this resolution the percentile error
-# from the grid is ~1e-5 sd or less in every test case; the halved grid confirms it per run.
+# Grid steps per unit of the total's central spread (engine.exact.grid_plan). At this
+# resolution the percentile error from the grid is ~1e-5 sd or less in every test case; the
+# halved grid confirms it per run.
 RESOLUTION = 2000
-# Tail probability folded onto an unbounded item's grid ends, per side.
-ITEM_TAIL = 1e-10
+# The rest's resolution beside an item kept off the grid: each of its points costs one cdf
+# evaluation of the wide item per percentile asked.
+REST_RESOLUTION = 400
 # Points in one stacked FFT of a tree level's merges (bounds its memory to ~100 MB).
 BATCH_POINTS = 1 << 22
 # Mass below which a tail of a partial convolution is folded into its neighbour.
@@ -39,6 +49,9 @@ TRIM = 1e-15
 MAX_ITEM_POINTS = 1 << 22
 # Largest product of two lattices' lengths convolved directly rather than by FFT.
 DIRECT_LIMIT = 640_000
+# Just below whole percentiles: at a point mass's edge the percentile jumps, and a rounding
+# difference between the two grids must not read as an error of the jump's size.
+CHECK_Q = (np.arange(1, 100) - 1e-6) / 100
 
 Lattice = tuple[int, np.ndarray]  # (index of the first grid point, masses)
 
@@ -68,28 +81,58 @@ def exact_total(
     shift += math.fsum(d.mean for d in dists if not isinstance(d, Fixed) and d.variance <= 0)
     if not uncertain:
         return PointTotal(shift)
+    plan = plan_grid(uncertain, resolution)
+    if plan.wide is None:
+        return grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
+    others = uncertain[: plan.wide] + uncertain[plan.wide + 1 :]
+    if others:
+        rest_step = plan_grid(others, min(resolution, REST_RESOLUTION)).step
+        rest = grid_total(others, shift, rest_step, cumulants_of(others), progress, check_error)
+    else:
+        rest = PointTotal(shift)
+    return wide_item_total(
+        uncertain[plan.wide], rest, cumulants, getattr(rest, "truncated_mass", 0.0)
+    )
 
-    step = aligned_step(uncertain, cumulants.sd / resolution)
-    lattices, folded = _item_lattices(uncertain, step, lambda f: progress.report(0.3 * f))
+
+def grid_total(
+    dists: Sequence[Distribution],
+    shift: float,
+    target_step: float,
+    cumulants: Cumulants,
+    progress: Progress,
+    check_error: bool = True,
+) -> GridTotal:
+    """The items convolved on one grid near `target_step`, plus `shift`, with the error
+    estimate from the same total at twice the step."""
+    step = aligned_step(dists, target_step)
+    lattices, folded = _item_lattices(dists, step, lambda f: progress.report(0.3 * f))
+    spread = HatSpread.of(dists, lattices, step)
 
     def fine_tree() -> tuple[int, np.ndarray]:
-        return _convolve_tree(list(lattices), lambda f: progress.report(0.3 + 0.7 * f))
+        tree = _convolve_tree(list(lattices), lambda f: progress.report(0.3 + 0.7 * f))
+        return sharpened(tree, spread, 1)
+
+    def coarse_tree() -> tuple[int, np.ndarray]:
+        tree = _convolve_tree([coarsen(*lat) for lat in lattices], lambda f: None)
+        return sharpened(tree, spread, 2)
 
     if not check_error:
         fine = fine_tree()
         return GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
     # The check at twice the step is independent of the fine result: the other core does it.
-    fine, coarse = run_pair(
-        fine_tree, lambda: _convolve_tree([coarsen(lat) for lat in lattices], lambda f: None)
-    )
+    fine, coarse = run_pair(fine_tree, coarse_tree)
     total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
     coarse_total = GridTotal(shift + coarse[0] * 2 * step, 2 * step, coarse[1], cumulants)
-    # Just below whole percentiles: at a point mass's edge the percentile jumps, and a
-    # rounding difference between the two grids must not read as an error of the jump's size.
-    q = (np.arange(1, 100) - 1e-6) / 100
-    bound = float(np.max(np.abs(total.ppf(q) - coarse_total.ppf(q))))
+    x = total.ppf(CHECK_Q)
     return GridTotal(
-        total.origin, step, total.masses, cumulants, error_bound=bound, truncated_mass=folded
+        total.origin,
+        step,
+        total.masses,
+        cumulants,
+        error_bound=float(np.max(np.abs(x - coarse_total.ppf(CHECK_Q)))),
+        truncated_mass=folded,
+        error_probability=float(np.max(np.abs(total.cdf(x) - coarse_total.cdf(x)))),
     )
 
 
@@ -130,21 +173,6 @@ def _item_lattices(
         if i % 64 == 0:
             report(i / len(dists))
     return lattices, folded
-
-
-def coarsen(lattice: Lattice) -> Lattice:
-    """The same item on the grid of twice the step, without evaluating it again: a hat of
-    width 2h is exactly half, one and half of the three width-h hats beneath it."""
-    start, masses = lattice
-    if start % 2:
-        start, masses = start - 1, np.concatenate([[0.0], masses])
-    if len(masses) % 2 == 0:
-        masses = np.concatenate([masses, [0.0]])
-    even = masses[0::2].copy()
-    odd = masses[1::2]
-    even[:-1] += 0.5 * odd
-    even[1:] += 0.5 * odd
-    return start // 2, even
 
 
 def _convolve_tree(
@@ -255,15 +283,11 @@ def item_lattice(d: Distribution, step: float) -> tuple[int, np.ndarray, float]:
 
 
 def _continuous_lattice(part, step: float) -> tuple[int, np.ndarray, float]:
-    lo, hi = part.bounds()
-    tail = 0.0
-    if not _bounded(part):
-        lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
-        tail = 2 * ITEM_TAIL
-        if (hi - lo) / step > MAX_ITEM_POINTS:
-            # Heavy tail: keep the grid affordable by folding more of the far tail.
-            hi = lo + MAX_ITEM_POINTS * step
-            tail = ITEM_TAIL + 1 - float(part.cdf(hi))
+    lo, hi, tail = part_range(part)
+    if tail and (hi - lo) / step > MAX_ITEM_POINTS:
+        # Heavy tail beside an item kept off the grid: fold more of this one's far tail.
+        hi = lo + MAX_ITEM_POINTS * step
+        tail = tail / 2 + 1 - float(part.cdf(hi))
     k0 = math.floor(lo / step)
     k1 = math.ceil(hi / step)
     grid = np.arange(k0, k1 + 2) * step
@@ -286,7 +310,3 @@ def _continuous_lattice(part, step: float) -> tuple[int, np.ndarray, float]:
     np.maximum(masses, 0.0, out=masses)
     masses /= masses.sum()
     return k0, masses, tail
-
-
-def _bounded(part) -> bool:
-    return isinstance(part, Uniform | Triangular | Beta)
