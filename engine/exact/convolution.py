@@ -72,10 +72,12 @@ def exact_total(
     resolution: int = RESOLUTION,
     progress: Progress | None = None,
     check_error: bool = True,
+    cumulants: Cumulants | None = None,
 ) -> Total:
-    """Distribution of the sum of independent items; see the module docstring."""
+    """Distribution of the sum of independent items; see the module docstring.
+    `cumulants`: the items' summed cumulants when the caller has them already."""
     progress = progress or Progress()
-    cumulants = cumulants_of(dists)
+    cumulants = cumulants or cumulants_of(dists)
     shift = math.fsum(d.value for d in dists if isinstance(d, Fixed))
     uncertain = [d for d in dists if not isinstance(d, Fixed) and d.variance > 0]
     shift += math.fsum(d.mean for d in dists if not isinstance(d, Fixed) and d.variance <= 0)

@@ -69,10 +69,8 @@ def cornish_fisher_percentile(cumulants: Cumulants, q: np.ndarray) -> np.ndarray
 
 
 def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.ndarray:
-    out = np.zeros(np.shape(q))
-    for d in dists:
-        out = out + d.ppf(q)
-    return out
+    q = np.asarray(q, dtype=float)
+    return np.sum([d.ppf(q) for d in dists], axis=0) if dists else np.zeros(q.shape)
 
 
 def correlated_normal_variance(sds: np.ndarray, pearson: np.ndarray) -> float:
@@ -83,10 +81,11 @@ def correlated_normal_variance(sds: np.ndarray, pearson: np.ndarray) -> float:
 BERRY_ESSEEN_C0 = 0.5600  # independent, non-identical summands: Shevtsova (2010)
 
 
-def berry_esseen_bound(dists: Sequence[Distribution]) -> float:
-    """sup |F(x) - Phi(x)| <= C0 * sum E|X_i - mu_i|^3 / (sum var_i)^(3/2)."""
-    var = math.fsum(d.variance for d in dists)
+def berry_esseen_bound(dists: Sequence[Distribution], cumulants: Cumulants | None = None) -> float:
+    """sup |F(x) - Phi(x)| <= C0 * sum E|X_i - mu_i|^3 / (sum var_i)^(3/2); `cumulants`: the
+    items' summed cumulants when the caller has them already."""
+    var = cumulants.variance if cumulants is not None else math.fsum(d.variance for d in dists)
     if var <= 0:
         return math.inf
-    rho = math.fsum(d.abs_moment3() for d in dists if d.variance > 0)
+    rho = math.fsum(d.abs_moment3_about_mean for d in dists if d.variance > 0)
     return min(BERRY_ESSEEN_C0 * rho / var**1.5, 1.0)
