@@ -1,0 +1,132 @@
+"""The exact total by inverting the product of the items' characteristic functions.
+
+The total's transform is the product of the items' (engine.exact.item_spectra), sampled at
+the frequencies of a grid of n points: one inverse real FFT then gives the probability of
+each cell [kh - h/2, kh + h/2] directly, with no rounding noise added per item, so the error
+does not grow with the number of items. The product is built from the lowest frequencies up
+and stops where it has fallen below floating point (for a sum of many items that is after a
+few dozen frequencies, whatever n is). Point masses are kept apart from the continuous part
+so that a risk register's outcomes stay points.
+
+The window holds every item's range, or, when narrower, the mean plus or minus Hoeffding's
+bound for 1e-16 of the mass outside (items clipped at their 1e-10 quantiles), so the mass
+folded back by the FFT's periodicity is below anything a percentile can see.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from scipy import fft as sp_fft
+
+from engine.exact.grid_plan import part_range
+from engine.exact.item_spectra import SpectraPlan, gridded_spectra, total_spectrum
+from engine.exact.lattice import Lattice, trim
+from engine.families.distributions import Distribution
+from engine.progress import Progress
+
+# Mass the window may leave outside on each side (it folds back onto the other end).
+TAIL_OUTSIDE = 1e-16
+# Hoeffding: P(T - E T >= u) <= exp(-2 u^2 / sum w_i^2); u = 4.3 sqrt(sum w_i^2) -> 1e-16.
+HOEFFDING_REACH = 4.3
+# A transform below this is zero in floating point; the product stops there.
+NEGLIGIBLE_SPECTRUM = 1e-17
+# The inversion is used when the total's transform at half the grid's highest frequency and
+# at the highest is below this: a total with a jump or a kink in its density (one uniform,
+# a few items) has a transform that has not died out there, and cutting it would ring.
+SMOOTH_ENOUGH = 1e-12
+FIRST_BLOCK = 64
+
+
+class SpectralSum:
+    """The items ready to be inverted on the grid k * step."""
+
+    def __init__(self, dists: Sequence[Distribution], step: float) -> None:
+        self.dists = dists
+        self.step = step
+        self.plan = SpectraPlan.of(dists)
+        self.anchors = np.array([round(d.mean / step) for d in dists], dtype=np.int64)
+        self.folded = 0.0
+
+    def coarser(self) -> SpectralSum:
+        return SpectralSum(self.dists, 2 * self.step)
+
+    def is_smooth(self) -> bool:
+        """Whether the total's transform has died out by the grid's highest frequency (a
+        bound: items with gridded parts count as 1 there)."""
+        if self.plan.has_point_mass or len(self.plan.gridded) == self.plan.count:
+            return False
+        t = np.array([0.5, 1.0]) * math.pi / self.step
+        total, _ = total_spectrum(self.plan, t, self.step, self.anchors, None)
+        return bool(np.max(np.abs(total)) < SMOOTH_ENOUGH)
+
+    def lattice(self, progress: Progress) -> Lattice:
+        """The total's cell masses on the grid."""
+        step, plan = self.step, self.plan
+        first, count = _window(self.dists, step)
+        t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
+        # how many frequencies matter: the bound from the closed-form items, in blocks
+        bins, size = 0, FIRST_BLOCK
+        while bins < len(t_all):
+            t = t_all[bins : bins + size]
+            bound, _ = total_spectrum(plan, t, step, self.anchors, None)
+            loud = np.flatnonzero(np.abs(bound) >= NEGLIGIBLE_SPECTRUM)
+            progress.report(0.3 * (bins + len(t)) / len(t_all))
+            if len(loud) < len(t):  # it has fallen below floating point within this block
+                bins += int(loud[-1]) + 1 if len(loud) else 0
+                break
+            bins += len(t)
+            size *= 2
+        t = t_all[:bins]
+        gridded = None
+        if plan.gridded:
+            gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins)
+        progress.report(0.7)
+        total, atoms = total_spectrum(plan, t, step, self.anchors, gridded)
+        # the continuous part is spread over its cells; point masses stay where they are
+        box = np.sinc(t * step / (2 * math.pi))  # np.sinc(x) = sin(pi x) / (pi x)
+        cells = np.zeros(len(t_all), dtype=complex)
+        cells[:bins] = atoms + (total - atoms) * box
+        masses = sp_fft.irfft(np.conj(cells), count)
+        # index 0 is the point sum(anchors); the window starts at `first`
+        masses = np.roll(masses, -((first - int(self.anchors.sum())) % count))
+        np.maximum(masses, 0.0, out=masses)
+        masses /= masses.sum()
+        return trim(first, masses)
+
+
+def _window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
+    """(first grid index, number of points) of a window holding the total but 1e-16 of it
+    on each side: the items' own ranges added up, or the mean plus or minus the smaller of
+    Hoeffding's and Bernstein's bounds (items clipped at their ranges), when narrower."""
+    lows, highs, means, variances = [], [], [], []
+    for d in dists:
+        atoms, continuous = d.parts()
+        ends = [v for v, _ in atoms]
+        for _, part in continuous:
+            lo, hi, _ = part_range(part)
+            ends += [lo, hi]
+        lows.append(min(ends))
+        highs.append(max(ends))
+        means.append(d.mean)
+        variances.append(d.variance)
+    low, high, mean = math.fsum(lows), math.fsum(highs), math.fsum(means)
+    lows_, highs_, means_ = np.array(lows), np.array(highs), np.array(means)
+    widths = highs_ - lows_
+    variance = float(np.minimum(np.array(variances), widths**2 / 4).sum())
+    hoeffding = HOEFFDING_REACH * math.sqrt(float(widths @ widths))
+    low = max(low, mean - min(hoeffding, _bernstein(variance, float(np.max(means_ - lows_)))))
+    high = min(high, mean + min(hoeffding, _bernstein(variance, float(np.max(highs_ - means_)))))
+    first = math.floor(low / step) - 2
+    count = sp_fft.next_fast_len(math.ceil(high / step) + 3 - first, real=True)
+    return first, count
+
+
+def _bernstein(variance: float, largest: float) -> float:
+    """u with exp(-u^2 / (2 (V + M u / 3))) = TAIL_OUTSIDE: Bernstein's inequality for a sum
+    of independent items each at most M from its mean (Boucheron, Lugosi & Massart,
+    Concentration Inequalities, 2013, Theorem 2.10)."""
+    c = 2 * math.log(1 / TAIL_OUTSIDE)
+    return (c * largest / 3 + math.sqrt((c * largest / 3) ** 2 + 4 * c * variance)) / 2
