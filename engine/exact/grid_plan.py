@@ -13,6 +13,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -26,6 +27,7 @@ ITEM_TAIL = 1e-10
 WIDE_POINTS = 1 << 20
 
 
+@lru_cache(maxsize=65536)
 def central_spread(d: Distribution) -> float:
     """The item's spread where its probability is: the sd of its parts, each continuous part
     read with its median and min(sd, (P90 - P10) / 2.563) so that a far tail cannot inflate it."""
@@ -60,6 +62,16 @@ def part_range(part: Continuous) -> tuple[float, float, float]:
         return lo, hi, 0.0
     lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
     return lo, hi, 2 * ITEM_TAIL
+
+
+@lru_cache(maxsize=65536)
+def item_range(d: Distribution) -> tuple[float, float]:
+    """The lowest and highest value an item's grid holds (its point masses included)."""
+    atoms, continuous = d.parts()
+    ends = [v for v, _ in atoms]
+    for _, part in continuous:
+        ends += part_range(part)[:2]
+    return min(ends), max(ends)
 
 
 @dataclass(frozen=True)

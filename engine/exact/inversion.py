@@ -21,7 +21,7 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.grid_plan import part_range
+from engine.exact.grid_plan import item_range
 from engine.exact.item_spectra import SpectraPlan, gridded_spectra, total_spectrum
 from engine.exact.lattice import Lattice, trim
 from engine.families.distributions import Distribution
@@ -50,9 +50,6 @@ class SpectralSum:
         self.anchors = np.array([round(d.mean / step) for d in dists], dtype=np.int64)
         self.folded = 0.0
 
-    def coarser(self) -> SpectralSum:
-        return SpectralSum(self.dists, 2 * self.step)
-
     def is_smooth(self) -> bool:
         """Whether the total's transform has died out by the grid's highest frequency (a
         bound: items with gridded parts count as 1 there)."""
@@ -62,8 +59,9 @@ class SpectralSum:
         total, _ = total_spectrum(self.plan, t, self.step, self.anchors, None)
         return bool(np.max(np.abs(total)) < SMOOTH_ENOUGH)
 
-    def lattice(self, progress: Progress) -> Lattice:
-        """The total's cell masses on the grid."""
+    def lattices(self, progress: Progress) -> tuple[Lattice, Lattice]:
+        """The total's cell masses on the grid, and on the grid of twice the step (the error
+        check: the same transform read through cells twice as wide, one more small FFT)."""
         step, plan = self.step, self.plan
         first, count = _window(self.dists, step)
         t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
@@ -85,42 +83,55 @@ class SpectralSum:
             gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins)
         progress.report(0.7)
         total, atoms = total_spectrum(plan, t, step, self.anchors, gridded)
-        # the continuous part is spread over its cells; point masses stay where they are
-        box = np.sinc(t * step / (2 * math.pi))  # np.sinc(x) = sin(pi x) / (pi x)
-        cells = np.zeros(len(t_all), dtype=complex)
-        cells[:bins] = atoms + (total - atoms) * box
-        masses = sp_fft.irfft(np.conj(cells), count)
-        # index 0 is the point sum(anchors); the window starts at `first`
-        masses = np.roll(masses, -((first - int(self.anchors.sum())) % count))
-        np.maximum(masses, 0.0, out=masses)
-        masses /= masses.sum()
-        return trim(first, masses)
+        # measured from an even grid point, so that the coarse grid holds it too
+        base = int(self.anchors.sum())
+        if base % 2:
+            base -= 1
+            total, atoms = total * np.exp(1j * step * t), atoms * np.exp(1j * step * t)
+        fine = _cells(total, atoms, t, step, count, first, base)
+        coarse = _cells(total, atoms, t, 2 * step, count // 2, first // 2, base // 2)
+        return fine, coarse
+
+
+def _cells(
+    total: np.ndarray,
+    atoms: np.ndarray,
+    t: np.ndarray,
+    step: float,
+    count: int,
+    first: int,
+    base: int,
+) -> Lattice:
+    """Cell masses on `count` points of `step` from index `first`, from the transform at t
+    measured from the point `base`: the continuous part spread over its cells (times the
+    box's transform), point masses left where they are."""
+    bins = min(len(t), count // 2 + 1)
+    box = np.sinc(t[:bins] * step / (2 * math.pi))  # np.sinc(x) = sin(pi x) / (pi x)
+    cells = np.zeros(count // 2 + 1, dtype=complex)
+    cells[:bins] = atoms[:bins] + (total[:bins] - atoms[:bins]) * box
+    masses = sp_fft.irfft(np.conj(cells), count)
+    masses = np.roll(masses, -((first - base) % count))  # index 0 was the point `base`
+    np.maximum(masses, 0.0, out=masses)
+    masses /= masses.sum()
+    return trim(first, masses)
 
 
 def _window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
     """(first grid index, number of points) of a window holding the total but 1e-16 of it
     on each side: the items' own ranges added up, or the mean plus or minus the smaller of
     Hoeffding's and Bernstein's bounds (items clipped at their ranges), when narrower."""
-    lows, highs, means, variances = [], [], [], []
-    for d in dists:
-        atoms, continuous = d.parts()
-        ends = [v for v, _ in atoms]
-        for _, part in continuous:
-            lo, hi, _ = part_range(part)
-            ends += [lo, hi]
-        lows.append(min(ends))
-        highs.append(max(ends))
-        means.append(d.mean)
-        variances.append(d.variance)
+    lows, highs = np.array([item_range(d) for d in dists]).T
+    means = [d.mean for d in dists]
+    variances = [d.variance for d in dists]
     low, high, mean = math.fsum(lows), math.fsum(highs), math.fsum(means)
-    lows_, highs_, means_ = np.array(lows), np.array(highs), np.array(means)
-    widths = highs_ - lows_
+    means_ = np.array(means)
+    widths = highs - lows
     variance = float(np.minimum(np.array(variances), widths**2 / 4).sum())
     hoeffding = HOEFFDING_REACH * math.sqrt(float(widths @ widths))
-    low = max(low, mean - min(hoeffding, _bernstein(variance, float(np.max(means_ - lows_)))))
-    high = min(high, mean + min(hoeffding, _bernstein(variance, float(np.max(highs_ - means_)))))
-    first = math.floor(low / step) - 2
-    count = sp_fft.next_fast_len(math.ceil(high / step) + 3 - first, real=True)
+    low = max(low, mean - min(hoeffding, _bernstein(variance, float(np.max(means_ - lows)))))
+    high = min(high, mean + min(hoeffding, _bernstein(variance, float(np.max(highs - means_)))))
+    first = 2 * (math.floor(low / step) // 2 - 1)  # even, and so is the count: the check
+    count = 2 * sp_fft.next_fast_len((math.ceil(high / step) + 4 - first) // 2 + 1, real=True)
     return first, count
 
 
