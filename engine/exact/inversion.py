@@ -65,12 +65,13 @@ class SpectralSum:
         step, plan = self.step, self.plan
         first, count = _window(self.dists, step)
         t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
-        # how many frequencies matter: the bound from the closed-form items, in blocks
-        bins, size = 0, FIRST_BLOCK
+        # how many frequencies matter: the bound from the closed-form items, in blocks (it
+        # is the total itself when no item has a gridded part)
+        bins, size, blocks = 0, FIRST_BLOCK, []
         while bins < len(t_all):
             t = t_all[bins : bins + size]
-            bound, _ = total_spectrum(plan, t, step, self.anchors, None)
-            loud = np.flatnonzero(np.abs(bound) >= NEGLIGIBLE_SPECTRUM)
+            blocks.append(total_spectrum(plan, t, step, self.anchors, None))
+            loud = np.flatnonzero(np.abs(blocks[-1][0]) >= NEGLIGIBLE_SPECTRUM)
             progress.report(0.3 * (bins + len(t)) / len(t_all))
             if len(loud) < len(t):  # it has fallen below floating point within this block
                 bins += int(loud[-1]) + 1 if len(loud) else 0
@@ -78,11 +79,13 @@ class SpectralSum:
             bins += len(t)
             size *= 2
         t = t_all[:bins]
-        gridded = None
         if plan.gridded:
             gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins)
-        progress.report(0.7)
-        total, atoms = total_spectrum(plan, t, step, self.anchors, gridded)
+            progress.report(0.7)
+            total, atoms = total_spectrum(plan, t, step, self.anchors, gridded)
+        else:
+            total = np.concatenate([b[0] for b in blocks])[:bins]
+            atoms = np.concatenate([b[1] for b in blocks])[:bins]
         # measured from an even grid point, so that the coarse grid holds it too
         base = int(self.anchors.sum())
         if base % 2:

@@ -26,8 +26,9 @@ from engine.families.distributions import Continuous, Distribution, Normal, Tria
 # Lattices up to this long are transformed directly at the frequencies in use (a matrix
 # product); longer ones by an FFT over the whole window.
 DIRECT_POINTS = 512
-# Terms of the series for the triangle's transform near zero frequency (|s| < 1: 1/20! ~ 4e-19).
-SERIES_TERMS = 20
+# Below this |s| the triangle's transform is summed from its series, of SERIES_TERMS terms.
+RAMP_SERIES = 0.05
+SERIES_TERMS = 8
 
 
 @dataclass
@@ -175,8 +176,10 @@ def _uniform(low: np.ndarray, high: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 def _ramp(s: np.ndarray) -> np.ndarray:
     """E[exp(i s V)] for V with density 2v on [0, 1]: 2 (1 + (is - 1) e^{is}) / (is)^2, from
-    its power series sum 2 (is)^n / (n! (n + 2)) where that cancels (|s| < 1)."""
-    small = np.abs(s) < 1
+    its power series sum 2 (is)^n / (n! (n + 2)) where that cancels (|s| < RAMP_SERIES: the
+    closed form then loses eps / s^2, 4e-14, and the series' first term left out is below
+    s^8 / 8!, 1e-15)."""
+    small = np.abs(s) < RAMP_SERIES
     out = np.empty(s.shape, dtype=complex)
     z = 1j * s[small]
     series = np.zeros(z.shape, dtype=complex)
