@@ -5,8 +5,9 @@ the frequencies of a grid of n points: one inverse real FFT then gives the proba
 each cell [kh - h/2, kh + h/2] directly, with no rounding noise added per item, so the error
 does not grow with the number of items. The product is built from the lowest frequencies up
 and stops where it has fallen below floating point (for a sum of many items that is after a
-few dozen frequencies, whatever n is). Point masses are kept apart from the continuous part
-so that a risk register's outcomes stay points.
+few dozen frequencies, whatever n is). It is used for smooth totals only: one with a
+point mass (a risk register) or a kink (one uniform) has a transform that does not die out,
+and goes to the hat-grid convolution (engine.exact.convolution) instead.
 
 The window holds every item's range, or, when narrower, the mean plus or minus Hoeffding's
 bound for 1e-16 of the mass outside (items clipped at their 1e-10 quantiles), so the mass
@@ -21,8 +22,8 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.grid_plan import item_range
-from engine.exact.item_spectra import SpectraPlan, gridded_spectra, total_spectrum
+from engine.exact.grid_plan import central_spread, item_range
+from engine.exact.item_spectra import SpectraPlan, gridded_spectra, partial_spectrum
 from engine.exact.lattice import Lattice, trim
 from engine.families.distributions import Distribution
 from engine.progress import Progress
@@ -37,7 +38,7 @@ NEGLIGIBLE_SPECTRUM = 1e-17
 # at the highest is below this: a total with a jump or a kink in its density (one uniform,
 # a few items) has a transform that has not died out there, and cutting it would ring.
 SMOOTH_ENOUGH = 1e-12
-FIRST_BLOCK = 64
+MIN_BLOCK = 16
 
 
 class SpectralSum:
@@ -56,8 +57,8 @@ class SpectralSum:
         if self.plan.has_point_mass or len(self.plan.gridded) == self.plan.count:
             return False
         t = np.array([0.5, 1.0]) * math.pi / self.step
-        total, _ = total_spectrum(self.plan, t, self.step, self.anchors, None)
-        return bool(np.max(np.abs(total)) < SMOOTH_ENOUGH)
+        bound = partial_spectrum(self.plan, t, self.step, self.anchors).closed
+        return bool(np.max(np.abs(bound)) < SMOOTH_ENOUGH)
 
     def lattices(self, progress: Progress) -> tuple[Lattice, Lattice]:
         """The total's cell masses on the grid, and on the grid of twice the step (the error
@@ -65,53 +66,56 @@ class SpectralSum:
         step, plan = self.step, self.plan
         first, count = _window(self.dists, step)
         t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
-        # how many frequencies matter: the bound from the closed-form items, in blocks (it
-        # is the total itself when no item has a gridded part)
-        bins, size, blocks = 0, FIRST_BLOCK, []
+        # how many frequencies matter: the bound from the items without gridded parts, in
+        # blocks from the lowest frequency up
+        bins, blocks = 0, []
+        # first guess: a normal with the items' central spread has died out by t = 8.9 / S
+        spread = math.sqrt(sum(central_spread(d) ** 2 for d in self.dists))
+        size = max(MIN_BLOCK, math.ceil(1.25 * 8.9 / spread * count * step / (2 * math.pi)))
         while bins < len(t_all):
             t = t_all[bins : bins + size]
-            blocks.append(total_spectrum(plan, t, step, self.anchors, None))
-            loud = np.flatnonzero(np.abs(blocks[-1][0]) >= NEGLIGIBLE_SPECTRUM)
+            blocks.append(partial_spectrum(plan, t, step, self.anchors))
+            loud = np.flatnonzero(np.abs(blocks[-1].closed) >= NEGLIGIBLE_SPECTRUM)
             progress.report(0.3 * (bins + len(t)) / len(t_all))
             if len(loud) < len(t):  # it has fallen below floating point within this block
                 bins += int(loud[-1]) + 1 if len(loud) else 0
                 break
             bins += len(t)
-            size *= 2
+            size = max(MIN_BLOCK, size // 2)
         t = t_all[:bins]
+        gridded = None
         if plan.gridded:
             gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins)
-            progress.report(0.7)
-            total, atoms = total_spectrum(plan, t, step, self.anchors, gridded)
-        else:
-            total = np.concatenate([b[0] for b in blocks])[:bins]
-            atoms = np.concatenate([b[1] for b in blocks])[:bins]
+        progress.report(0.7)
+        parts, done = [], 0
+        for block in blocks:
+            width = min(len(block.closed), bins - done)
+            if gridded is None:
+                parts.append(block.closed[:width])
+            else:
+                parts.append(block.total(plan, gridded[:, done : done + width]))
+            done += width
+        total = np.concatenate(parts) if parts else np.zeros(0, dtype=complex)
         # measured from an even grid point, so that the coarse grid holds it too
         base = int(self.anchors.sum())
         if base % 2:
             base -= 1
-            total, atoms = total * np.exp(1j * step * t), atoms * np.exp(1j * step * t)
-        fine = _cells(total, atoms, t, step, count, first, base)
-        coarse = _cells(total, atoms, t, 2 * step, count // 2, first // 2, base // 2)
+            total = total * np.exp(1j * step * t)
+        fine = _cells(total, t, step, count, first, base)
+        coarse = _cells(total, t, 2 * step, count // 2, first // 2, base // 2)
         return fine, coarse
 
 
 def _cells(
-    total: np.ndarray,
-    atoms: np.ndarray,
-    t: np.ndarray,
-    step: float,
-    count: int,
-    first: int,
-    base: int,
+    total: np.ndarray, t: np.ndarray, step: float, count: int, first: int, base: int
 ) -> Lattice:
-    """Cell masses on `count` points of `step` from index `first`, from the transform at t
-    measured from the point `base`: the continuous part spread over its cells (times the
-    box's transform), point masses left where they are."""
+    """Cell masses on `count` points of `step` from index `first`, from the total's
+    transform at t measured from the point `base` (times the cell's transform: a smooth
+    total has no point mass to keep apart)."""
     bins = min(len(t), count // 2 + 1)
     box = np.sinc(t[:bins] * step / (2 * math.pi))  # np.sinc(x) = sin(pi x) / (pi x)
     cells = np.zeros(count // 2 + 1, dtype=complex)
-    cells[:bins] = atoms[:bins] + (total[:bins] - atoms[:bins]) * box
+    cells[:bins] = total[:bins] * box
     masses = sp_fft.irfft(np.conj(cells), count)
     masses = np.roll(masses, -((first - base) % count))  # index 0 was the point `base`
     np.maximum(masses, 0.0, out=masses)

@@ -5,7 +5,7 @@ forms, evaluated for all items of a family in one array operation. Parts without
 beta of PERT, the lognormal) are put on the grid by hat masses (engine.exact.convolution's
 `item_lattice`) and transformed; a hat spreads its item by the kernel whose transform is
 sinc^2(t h / 2), so that factor is divided out. Point masses that fall between grid points
-are split between the two neighbours the same way, so a point stays a point.
+are split between the two neighbours the same way (keeping the mean).
 
 Each item is measured from its own grid point near its mean (`anchors`), so that phases stay
 small numbers; the product is then the total measured from the sum of those points.
@@ -41,7 +41,7 @@ class SpectraPlan:
     normal: list[tuple[int, float, float, float]] = field(default_factory=list)
     gridded: list[tuple[int, float, Continuous]] = field(default_factory=list)
     atoms: list[tuple[int, float, float]] = field(default_factory=list)
-    atom_log: float = 0.0  # log of the total's point mass share (the product of the items')
+    atom_log: float = 0.0  # log of the total's point-mass share (the product of the items')
 
     @property
     def has_point_mass(self) -> bool:
@@ -68,24 +68,36 @@ class SpectraPlan:
         return plan
 
 
-def total_spectrum(
-    plan: SpectraPlan,
-    t: np.ndarray,
-    step: float,
-    anchors: np.ndarray,
-    gridded: np.ndarray | None,
-) -> tuple[np.ndarray, np.ndarray]:
-    """(the total's transform, the transform of its point masses alone) at frequencies t,
-    measured from step * sum(anchors); `anchors`: each item's grid index near its mean;
-    `gridded`: the gridded parts' transforms at t (`gridded_spectra`), or None for a bound:
-    an item with a gridded part then counts as 1, the most any transform can be."""
+@dataclass(frozen=True)
+class PartialSpectrum:
+    """The product of the items without gridded parts, and the other items' transforms so
+    far (their point masses and closed-form parts), at some frequencies."""
+
+    closed: np.ndarray  # a bound on the total's transform: any transform is at most 1
+    open_rows: np.ndarray  # the items with a gridded part
+    open_values: np.ndarray  # (len(open_rows), frequencies)
+
+    def total(self, plan: SpectraPlan, gridded: np.ndarray) -> np.ndarray:
+        """The total's transform at the first len(gridded[0]) of these frequencies, given
+        the gridded parts' there (`gridded_spectra`)."""
+        width = gridded.shape[1]
+        values = self.open_values[:, :width].copy()
+        where = np.searchsorted(self.open_rows, [r for r, _, _ in plan.gridded])
+        weights = np.array([w for _, w, _ in plan.gridded])
+        _add_rows(values, where, weights[:, None] * gridded)
+        return self.closed[:width] * np.prod(values, axis=0)
+
+
+def partial_spectrum(
+    plan: SpectraPlan, t: np.ndarray, step: float, anchors: np.ndarray
+) -> PartialSpectrum:
+    """The items' closed-form transforms at frequencies t, measured from step * sum(anchors)
+    (`anchors`: each item's grid index near its mean)."""
     at = anchors * step
     items = np.zeros((plan.count, len(t)), dtype=complex)
-    atom_part = np.zeros((plan.count, len(t)), dtype=complex)
     if plan.atoms:
         rows, mass, value = _columns(plan.atoms)
-        _add_rows(atom_part, rows, mass[:, None] * _lattice_points(value - at[rows], step, t))
-        items += atom_part
+        _add_rows(items, rows, mass[:, None] * _lattice_points(value - at[rows], step, t))
     if plan.uniform:
         rows, w, low, high = _columns(plan.uniform)
         _add_rows(items, rows, w[:, None] * _uniform(low - at[rows], high - at[rows], t))
@@ -97,16 +109,10 @@ def total_spectrum(
         rows, w, mu, sigma = _columns(plan.normal)
         phase = np.exp(1j * np.outer(mu - at[rows], t) - 0.5 * np.outer(sigma**2, t * t))
         _add_rows(items, rows, w[:, None] * phase)
-    if plan.gridded:
-        rows = np.array([r for r, _, _ in plan.gridded])
-        if gridded is None:
-            items[rows] = 1.0
-        else:
-            w = np.array([wt for _, wt, _ in plan.gridded])
-            _add_rows(items, rows, w[:, None] * gridded)
-    total = np.prod(items, axis=0)
-    atoms_only = np.prod(atom_part, axis=0) if plan.has_point_mass else np.zeros(len(t), complex)
-    return total, atoms_only
+    open_rows = np.unique([r for r, _, _ in plan.gridded]).astype(np.int64)
+    closed = np.ones(plan.count, dtype=bool)
+    closed[open_rows] = False
+    return PartialSpectrum(np.prod(items[closed], axis=0), open_rows, items[open_rows])
 
 
 def gridded_spectra(
