@@ -39,6 +39,9 @@ NEGLIGIBLE_SPECTRUM = 1e-17
 # a few items) has a transform that has not died out there, and cutting it would ring.
 SMOOTH_ENOUGH = 1e-12
 MIN_BLOCK = 16
+# Where the smoothness is probed, in units of the highest frequency: spaced irregularly, so
+# that a power-of-two step cannot put every probe on a zero of a uniform's transform.
+PROBES = np.array([0.5, 0.5772, 0.6180, 0.7071, 0.7854, 0.8660, 0.9239, 1.0])
 
 
 class SpectralSum:
@@ -56,7 +59,7 @@ class SpectralSum:
         bound: items with gridded parts count as 1 there)."""
         if self.plan.has_point_mass or len(self.plan.gridded) == self.plan.count:
             return False
-        t = np.array([0.5, 1.0]) * math.pi / self.step
+        t = PROBES * math.pi / self.step
         bound = partial_spectrum(self.plan, t, self.step, self.anchors).closed
         return bool(np.max(np.abs(bound)) < SMOOTH_ENOUGH)
 
@@ -101,6 +104,7 @@ class SpectralSum:
         if base % 2:
             base -= 1
             total = total * np.exp(1j * step * t)
+        progress.report(1.0)
         fine = _cells(total, t, step, count, first, base)
         coarse = _cells(total, t, 2 * step, count // 2, first // 2, base // 2)
         return fine, coarse

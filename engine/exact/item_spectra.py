@@ -16,6 +16,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 from scipy import fft as sp_fft
@@ -127,8 +128,11 @@ def gridded_spectra(
     t = 2 * math.pi * np.arange(bins) / (count * step)
     spread = np.sinc(t * step / (2 * math.pi)) ** 2  # np.sinc(x) = sin(pi x) / (pi x)
     lattices = []
+    # the span only cuts heavy tails; a power of two of steps lets an analysis of the same
+    # items on the same step (another level, a setting changed) reuse the lattices
+    span = step * 2 ** math.ceil(math.log2(count))
     for row, weight, part in plan.gridded:
-        start, masses, tail = item_lattice(part, step, span=count * step)
+        start, masses, tail = _part_lattice(part, step, span)
         folded += weight * tail
         lattices.append((start - anchors[row], masses))
     lengths = np.array([len(m) for _, m in lattices])
@@ -153,6 +157,12 @@ def gridded_spectra(
         wrapped = np.bincount(where, weights=masses, minlength=count)
         out[i] = np.conj(sp_fft.rfft(wrapped)[:bins])
     return out / spread, folded
+
+
+@lru_cache(maxsize=16384)
+def _part_lattice(part: Continuous, step: float, span: float) -> tuple[int, np.ndarray, float]:
+    """A gridded part's hat masses, kept for the next analysis of the same items."""
+    return item_lattice(part, step, span)
 
 
 def _columns(rows: list[tuple]) -> tuple[np.ndarray, ...]:
