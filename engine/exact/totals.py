@@ -135,9 +135,8 @@ class GridTotal(Total):
     def cdf(self, x):
         x = np.asarray(x, dtype=float)
         out = np.interp(x, self.edges, self._edges_cum)
-        cell = np.clip(
-            np.rint((x - self.origin) / self.step).astype(np.int64), 0, len(self.masses) - 1
-        )
+        cell = np.clip(np.rint((x - self.origin) / self.step), 0, len(self.masses) - 1)
+        cell = cell.astype(np.int64)
         atom = self._atom_cell[cell]
         if np.any(atom):
             at_or_above = x >= self.origin + cell * self.step
