@@ -165,15 +165,24 @@ def _part_lattice(part: Continuous, step: float, span: float) -> tuple[int, np.n
     return item_lattice(part, step, span)
 
 
-def _columns(rows: list[tuple]) -> tuple[np.ndarray, ...]:
+@lru_cache(maxsize=64)
+def _columns_of(rows: tuple[tuple, ...]) -> tuple[np.ndarray, ...]:
     return tuple(np.array(col) for col in zip(*rows, strict=True))
 
 
+def _columns(rows: list[tuple]) -> tuple[np.ndarray, ...]:
+    """The parts' parameters as arrays, kept across the blocks of one total."""
+    return _columns_of(tuple(rows))
+
+
 def _add_rows(into: np.ndarray, rows: np.ndarray, values: np.ndarray) -> None:
-    if len(np.unique(rows)) == len(rows):
-        into[rows] += values
+    order = np.argsort(rows, kind="stable")
+    rows = rows[order]
+    starts = np.flatnonzero(np.diff(rows, prepend=-1))
+    if len(starts) == len(rows):
+        into[rows] += values[order]
     else:  # several parts of one item (a risk event's zero and its impact's points)
-        np.add.at(into, rows, values)
+        into[rows[starts]] += np.add.reduceat(values[order], starts, axis=0)
 
 
 def _lattice_points(position: np.ndarray, step: float, t: np.ndarray) -> np.ndarray:
