@@ -27,6 +27,7 @@ from engine.dependence.correlation import (
     targets,
 )
 from engine.exact.convolution import cumulants_of, exact_total
+from engine.exact.refusals import exact_total_or_refusal
 from engine.exact.totals import Cumulants, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
@@ -236,7 +237,7 @@ def analyze(
     dependence = None
     seed_used = trials_used = sampling_used = None
     if chosen == "exact":
-        total: Total = exact_total(dists, progress=tracker, cumulants=shortcut)
+        total: Total = exact_total_or_refusal(items, dists, tracker, shortcut)
         drivers = item_drivers(items, dists)
     else:
         seed_used = new_seed() if seed is None else int(seed)

@@ -152,3 +152,18 @@ def test_the_shortcut_uses_exact_moments_with_simulation() -> None:
     np.testing.assert_allclose([r.normal for r in a.levels], expected, rtol=1e-14)
     # and they are not the sample's: those differ by sampling noise
     assert a.total.mean != exact.mean
+
+
+def test_two_items_too_wide_for_one_grid_are_refused_with_the_way_out() -> None:
+    # Only one item can be evaluated by its own cdf; a second as wide would need a grid of
+    # billions of points. The refusal names the item and suggests simulation, which works.
+    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
+    first = LineItem("Ground risk", high=1e4, row=2, **wide)
+    second = LineItem("Market risk", high=1e3, row=3, **wide)
+    with pytest.raises(InputError) as caught:
+        analyze(_estimate(first, second), method="exact")
+    (problem,) = caught.value.problems
+    assert problem.item == "Market risk" and problem.row == 3 and "simulation" in problem.fix
+    assert "Ground risk" in problem.message
+    a = analyze(_estimate(first, second), method="simulation", trials=10_000, seed=2)
+    assert all(math.isfinite(r.value) for r in a.levels)

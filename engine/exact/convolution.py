@@ -28,9 +28,9 @@ from scipy import fft as sp_fft
 from scipy import signal
 from threadpoolctl import ThreadpoolController
 
-from engine.exact.grid_plan import plan_grid
+from engine.exact.grid_plan import TooWideForOneGrid, plan_grid
 from engine.exact.grid_spread import HatSpread, sharpened
-from engine.exact.inversion import SpectralSum
+from engine.exact.inversion import SpectralSum, window
 from engine.exact.lattice import Lattice, aligned_step, item_lattice, trim
 from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total, coarsen
 from engine.exact.wide_item import wide_item_total
@@ -48,6 +48,8 @@ SPECTRAL_COARSENING = 5
 # The rest's resolution beside an item kept off the grid: each of its points costs one cdf
 # evaluation of the wide item per percentile asked.
 REST_RESOLUTION = 400
+# Longest grid of the rest beside an item kept off it.
+REST_POINTS = 1 << 15
 # Points in one stacked FFT of a tree level's merges (bounds its memory to ~100 MB).
 BATCH_POINTS = 1 << 22
 # Largest product of two lattices' lengths convolved directly rather than by FFT.
@@ -99,7 +101,8 @@ def _exact_total(
     progress = progress or Progress()
     cumulants = cumulants or cumulants_of(dists)
     shift = math.fsum(d.value for d in dists if isinstance(d, Fixed))
-    uncertain = [d for d in dists if not isinstance(d, Fixed) and d.variance > 0]
+    kept = [i for i, d in enumerate(dists) if not isinstance(d, Fixed) and d.variance > 0]
+    uncertain = [dists[i] for i in kept]
     shift += math.fsum(d.mean for d in dists if not isinstance(d, Fixed) and d.variance <= 0)
     if not uncertain:
         return PointTotal(shift)
@@ -107,11 +110,16 @@ def _exact_total(
     if plan.wide is None:
         return grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
     others = uncertain[: plan.wide] + uncertain[plan.wide + 1 :]
-    if others:
-        rest_step = plan_grid(others, min(resolution, REST_RESOLUTION)).step
-        rest = grid_total(others, shift, rest_step, cumulants_of(others), progress, check_error)
-    else:
-        rest = PointTotal(shift)
+    if not others:
+        return wide_item_total(uncertain[plan.wide], PointTotal(shift), cumulants, 0.0)
+    rest_plan = plan_grid(others, min(resolution, REST_RESOLUTION))
+    if rest_plan.wide is not None:
+        second = kept[rest_plan.wide + (rest_plan.wide >= plan.wide)]
+        raise TooWideForOneGrid(kept[plan.wide], second)
+    # every rest point costs one cdf evaluation of the wide item per percentile: keep the
+    # rest's grid short (the check at twice its step reports what that costs in accuracy)
+    rest_step = rest_plan.step * max(1.0, window(others, rest_plan.step)[1] / REST_POINTS)
+    rest = grid_total(others, shift, rest_step, cumulants_of(others), progress, check_error)
     return wide_item_total(
         uncertain[plan.wide], rest, cumulants, getattr(rest, "truncated_mass", 0.0)
     )

@@ -24,7 +24,7 @@ NORMAL_P10_P90 = 2.5631031310892007
 # Tail probability folded onto an unbounded item's grid ends, per side.
 ITEM_TAIL = 1e-10
 # An item needing more grid points than this is evaluated by its own cdf (see the docstring).
-WIDE_POINTS = 1 << 20
+WIDE_POINTS = 1 << 22
 
 
 @lru_cache(maxsize=65536)
@@ -72,6 +72,14 @@ def item_range(d: Distribution) -> tuple[float, float]:
     for _, part in continuous:
         ends += part_range(part)[:2]
     return min(ends), max(ends)
+
+
+class TooWideForOneGrid(ValueError):
+    """Two items each too wide for a grid: only one can be evaluated by its own cdf."""
+
+    def __init__(self, first: int, second: int) -> None:
+        self.first, self.second = first, second  # indices into the items given
+        super().__init__(f"items {first} and {second} are both too wide for one grid")
 
 
 @dataclass(frozen=True)

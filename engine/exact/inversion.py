@@ -67,7 +67,7 @@ class SpectralSum:
         """The total's cell masses on the grid, and on the grid of twice the step (the error
         check: the same transform read through cells twice as wide, one more small FFT)."""
         step, plan = self.step, self.plan
-        first, count = _window(self.dists, step)
+        first, count = window(self.dists, step)
         t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
         # how many frequencies matter: the bound from the items without gridded parts, in
         # blocks from the lowest frequency up
@@ -127,7 +127,7 @@ def _cells(
     return trim(first, masses)
 
 
-def _window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
+def window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
     """(first grid index, number of points) of a window holding the total but 1e-16 of it
     on each side: the items' own ranges added up, or the mean plus or minus the smaller of
     Hoeffding's and Bernstein's bounds (items clipped at their ranges), when narrower."""
