@@ -137,6 +137,11 @@ class Analysis:
     def grid_error(self) -> float | None:
         return getattr(self.total, "error_bound", None)
 
+    @property
+    def grid_error_probability(self) -> float | None:
+        """The same check read in probability: the largest |F(x_q) - q| it moves."""
+        return getattr(self.total, "error_probability", None)
+
     def gap_curve(self, percentiles: Sequence[float] = range(1, 100)) -> dict[str, np.ndarray]:
         """The total and the normal shortcut at many percentiles, and the gap between them."""
         q = np.asarray(list(percentiles), dtype=float) / 100
@@ -170,6 +175,7 @@ class Analysis:
                 "skewness": total.skewness,
                 "excess_kurtosis": total.excess_kurtosis,
                 "grid_error": self.grid_error,
+                "grid_error_probability": self.grid_error_probability,
             },
             "berry_esseen": self.berry_esseen,
             "diagnostics": asdict(self.diagnostics),
