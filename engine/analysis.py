@@ -27,7 +27,8 @@ from engine.dependence.correlation import (
     targets,
 )
 from engine.exact.convolution import cumulants_of, exact_total
-from engine.exact.refusals import exact_total_or_refusal
+from engine.exact.grid_plan import TooWideForOneGrid
+from engine.exact.refusals import exact_total_or_refusal, too_wide_refusal
 from engine.exact.totals import Cumulants, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
@@ -249,9 +250,14 @@ def analyze(
         seed_used = new_seed() if seed is None else int(seed)
         sampling_used = sampling
         if linked:
-            total, dependence, stats = simulate_correlated(
-                dists, aims, trials, seed_used, sampling, tracker
-            )
+            try:
+                total, dependence, stats = simulate_correlated(
+                    dists, aims, trials, seed_used, sampling, tracker
+                )
+            except TooWideForOneGrid as both:  # the "if independent" column is exact
+                raise too_wide_refusal(
+                    items, both, "narrow one of the two ranges: the total if independent is exact."
+                ) from None
             drivers = item_drivers(
                 items, dists, stats.variance_contributions, stats.rank_with_total
             )

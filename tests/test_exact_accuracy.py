@@ -14,6 +14,7 @@ from engine.exact.convolution import cumulants_of, exact_total
 from engine.exact.totals import Cumulants
 from engine.exact.wide_item import WideItemTotal
 from engine.families.distributions import Lognormal, Normal, Occurrence, Triangular, Uniform
+from engine.items import CorrelationSpec
 from engine.shortcut.normal import normal_percentile
 from engine.validation import build_distribution
 
@@ -167,3 +168,16 @@ def test_two_items_too_wide_for_one_grid_are_refused_with_the_way_out() -> None:
     assert "Ground risk" in problem.message
     a = analyze(_estimate(first, second), method="simulation", trials=10_000, seed=2)
     assert all(math.isfinite(r.value) for r in a.levels)
+
+
+def test_two_too_wide_items_correlated_are_refused_not_crashed() -> None:
+    # The correlated analysis also shows the exact total "if independent"; the same refusal
+    # applies there instead of an internal error.
+    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
+    first = LineItem("Ground risk", high=1e4, row=2, **wide)
+    second = LineItem("Market risk", high=1e3, row=3, **wide)
+    linked = Estimate(items=[first, second], correlation=CorrelationSpec(default=0.5))
+    with pytest.raises(InputError) as caught:
+        analyze(linked, trials=10_000, seed=3)
+    (problem,) = caught.value.problems
+    assert problem.item == "Market risk" and "independent" in problem.fix

@@ -22,17 +22,23 @@ def exact_total_or_refusal(
     try:
         return exact_total(dists, progress=progress, cumulants=cumulants)
     except TooWideForOneGrid as both:
-        first, second = items[both.first], items[both.second]
-        raise InputError(
-            [
-                Problem(
-                    f"'{second.name}' and '{first.name}' each spread over more orders of"
-                    " magnitude than one exact grid can hold with the other beside it.",
-                    "narrow one of the two ranges, or choose the simulation method.",
-                    item=second.name,
-                    row=second.row,
-                    column="High",
-                    sheet=second.sheet,
-                )
-            ]
+        raise too_wide_refusal(
+            items, both, "narrow one of the two ranges, or choose the simulation method."
         ) from None
+
+
+def too_wide_refusal(items: Sequence[LineItem], both: TooWideForOneGrid, fix: str) -> InputError:
+    first, second = items[both.first], items[both.second]
+    return InputError(
+        [
+            Problem(
+                f"'{second.name}' and '{first.name}' each spread over more orders of"
+                " magnitude than one exact grid can hold with the other beside it.",
+                fix,
+                item=second.name,
+                row=second.row,
+                column="High",
+                sheet=second.sheet,
+            )
+        ]
+    )
