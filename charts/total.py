@@ -22,6 +22,7 @@ from charts.style import (
 )
 from engine import Analysis
 from engine.exact.totals import GridTotal, SampleTotal
+from engine.exact.wide_item import WideItemTotal
 
 # Central range drawn: past these the curves are flat and only squeeze the levels together.
 SHOWN = (0.0005, 0.9995)
@@ -116,6 +117,12 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     elif isinstance(total, GridTotal):
         x, density = _coarsened(total, lo, hi)
         (line,) = ax.plot(x, density, color=TOTAL.color, ls=TOTAL.linestyle, lw=TOTAL.linewidth)
+        line.set(label=method_label(analysis), gid="total")
+    elif isinstance(total, WideItemTotal):
+        x = np.linspace(lo, hi, MAX_POINTS)
+        (line,) = ax.plot(
+            x, total.pdf(x), color=TOTAL.color, ls=TOTAL.linestyle, lw=TOTAL.linewidth
+        )
         line.set(label=method_label(analysis), gid="total")
     else:  # every item fixed: the total is one value
         ax.vlines(

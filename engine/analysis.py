@@ -28,7 +28,9 @@ from engine.dependence.correlation import (
     targets,
 )
 from engine.exact.convolution import cumulants_of, exact_total
-from engine.exact.totals import Cumulants, GridTotal, SampleTotal, Total
+from engine.exact.grid_plan import TooWideForOneGrid
+from engine.exact.refusals import exact_total_or_refusal, too_wide_refusal
+from engine.exact.totals import Cumulants, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
 from engine.progress import Progress
@@ -141,7 +143,12 @@ class Analysis:
 
     @property
     def grid_error(self) -> float | None:
-        return self.total.error_bound if isinstance(self.total, GridTotal) else None
+        return getattr(self.total, "error_bound", None)
+
+    @property
+    def grid_error_probability(self) -> float | None:
+        """The same check read in probability: the largest |F(x_q) - q| it moves."""
+        return getattr(self.total, "error_probability", None)
 
     def gap_curve(self, percentiles: Sequence[float] = range(1, 100)) -> dict[str, np.ndarray]:
         """The total and the normal shortcut at many percentiles, and the gap between them."""
@@ -176,6 +183,7 @@ class Analysis:
                 "skewness": total.skewness,
                 "excess_kurtosis": total.excess_kurtosis,
                 "grid_error": self.grid_error,
+                "grid_error_probability": self.grid_error_probability,
             },
             "berry_esseen": self.berry_esseen,
             "diagnostics": asdict(self.diagnostics),
@@ -251,19 +259,26 @@ def analyze(
         chosen, why = "exact", "items are independent, so the total is computed exactly"
 
     base, basis = base_estimate(items)
-    dependence = shortcut = None
+    # The shortcut is the items' exact means and variances whatever the method: sample
+    # moments would let sampling noise into the gap and the verdict.
+    shortcut = cumulants_of(dists)
+    dependence = None
     seed_used = trials_used = sampling_used = None
     if chosen == "exact":
-        total: Total = exact_total(dists, progress=tracker)
+        total: Total = exact_total_or_refusal(items, dists, tracker, shortcut)
         drivers = item_drivers(items, dists)
     else:
         seed_used = new_seed() if seed is None else int(seed)
         sampling_used = sampling
         if linked:
-            total, dependence, stats = simulate_correlated(
-                dists, aims, trials, seed_used, sampling, tracker
-            )
-            shortcut = cumulants_of(dists)
+            try:
+                total, dependence, stats = simulate_correlated(
+                    dists, aims, trials, seed_used, sampling, tracker
+                )
+            except TooWideForOneGrid as both:  # the "if independent" column is exact
+                raise too_wide_refusal(
+                    items, both, "narrow one of the two ranges: the total if independent is exact."
+                ) from None
             drivers = item_drivers(
                 items, dists, stats.variance_contributions, stats.rank_with_total
             )
@@ -274,7 +289,9 @@ def analyze(
             drivers = item_drivers(items, dists)
         trials_used = total.trials
     rows = level_rows(total, dists, levels, base, tolerance, shortcut, dependence)
-    diagnostics = diagnose(items, dists, total, drivers, independent=not linked, levels=levels)
+    diagnostics = diagnose(
+        items, dists, total, drivers, independent=not linked, levels=levels, exact=shortcut
+    )
     reasons = reasons_for(diagnostics, drivers, dependence)
     return Analysis(
         levels=rows,
@@ -433,13 +450,16 @@ def level_rows(
     shortcut: Cumulants | None = None,
     dependence: Dependence | None = None,
 ) -> list[LevelRow]:
-    """`shortcut`: the moments the normal column is read from, when not the total's own."""
+    """`shortcut`: the items' exact moments, which the normal column is read from (default:
+    computed here). Cornish–Fisher reads them too, except with correlated items, whose
+    total's skewness and kurtosis are not the items' sums: those come from the trials."""
     q = np.asarray([float(lv) for lv in levels]) / 100
     value = total.ppf(q)
-    cumulants = cumulants_of(dists) if isinstance(total, GridTotal) else total.cumulants
-    normal = normal_percentile(shortcut or cumulants, q)
+    shortcut = shortcut or cumulants_of(dists)
+    cumulants = total.cumulants if dependence is not None else shortcut
+    normal = normal_percentile(shortcut, q)
     if dependence is not None:
-        mean = (shortcut or cumulants).mean
+        mean = shortcut.mean
         dependent = normal_percentile(Cumulants(mean, dependence.shortcut_variance, 0, 0), q)
         independent = dependence.independent_total.ppf(q)
     cf = cornish_fisher_percentile(cumulants, q)
@@ -484,11 +504,12 @@ def diagnose(
     *,
     independent: bool = True,
     levels: Sequence[float] = DEFAULT_LEVELS,
+    exact: Cumulants | None = None,
 ) -> Diagnostics:
-    exact = cumulants_of(dists)
+    exact = exact or cumulants_of(dists)
     events = [d for d, i in zip(dists, items, strict=True) if i.is_risk_event]
     top = drivers[0] if drivers else None
-    shape = total.cumulants if isinstance(total, SampleTotal) else exact
+    shape = total.cumulants if isinstance(total, SampleTotal) and not independent else exact
     domain = cornish_fisher_domain(shape.skewness, shape.excess_kurtosis)
     return Diagnostics(
         item_count=len(items),
@@ -501,8 +522,8 @@ def diagnose(
         excess_kurtosis=shape.excess_kurtosis,
         largest_variance_share=top.variance_share if top else 0.0,
         largest_item=top.name if top else "",
-        normal_gap=kolmogorov_gap(total),
-        berry_esseen_bound=berry_esseen_bound(dists),
+        normal_gap=kolmogorov_gap(total, exact if independent else None),
+        berry_esseen_bound=berry_esseen_bound(dists, exact),
         berry_esseen_constant=BERRY_ESSEEN_C0,
         cornish_fisher_monotone=domain.monotone_within(cornish_fisher_span(levels)),
         berry_esseen_applies=independent,

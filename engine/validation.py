@@ -22,6 +22,7 @@ from engine.families.distributions import (
     Uniform,
     pert,
 )
+from engine.families.moment_limits import lognormal_fits, widest_ratio
 from engine.families.percentile_ends import NoBoundsFound, solve_bounds
 from engine.items import FAMILIES, LineItem, Problem
 
@@ -166,6 +167,15 @@ def _impact(item: LineItem, family: str, bad) -> Distribution | None:
             return None
         z_lo, z_hi = special.ndtri(p_lo), special.ndtri(p_hi)
         sigma = (math.log(high) - math.log(low)) / (z_hi - z_lo)
+        if not lognormal_fits(math.log(low) - z_lo * sigma, sigma):
+            bad(
+                "High",
+                f"a lognormal from {low:g} to {high:g} is too wide for its mean, variance and"
+                " skewness to be computed (they pass the largest number a computer holds);"
+                f" with Low {low:g} the widest High is {low * widest_ratio(low, z_lo, z_hi):.4g}.",
+                "narrow the range: raise Low or lower High.",
+            )
+            return None
         return Lognormal(math.log(low) - z_lo * sigma, sigma)
 
     # triangular and PERT

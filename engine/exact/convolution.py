@@ -8,39 +8,55 @@ The items' arrays are then convolved pairwise in a balanced tree with FFTs, trim
 negligible tails after each step, so the cost grows with the total's spread rather than
 with the sum of the items' ranges.
 
-The step is a fraction of the total's standard deviation; the same total computed at twice
-the step gives the error estimate reported with every exact result.
+Each hat spreads its item by a known variance (about h^2/6); summed over thousands of items
+that spread would move the percentiles by more than the grid's own error, so the total's
+spectrum is sharpened by exactly that variance at the end (engine.exact.grid_spread).
+
+The step follows where the probability is (engine.exact.grid_plan), not the total's sd; an
+item too wide for any grid is evaluated by its own cdf (engine.exact.wide_item). The same
+total at twice the step gives the error estimate reported with every exact result.
 """
 
 from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
+from functools import cache
 
 import numpy as np
 from scipy import fft as sp_fft
 from scipy import signal
+from threadpoolctl import ThreadpoolController
 
-from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total
-from engine.families.distributions import Beta, Distribution, Fixed, Triangular, Uniform
+from engine.exact.grid_plan import TooWideForOneGrid, plan_grid
+from engine.exact.grid_spread import HatSpread, sharpened
+from engine.exact.inversion import SpectralSum, window
+from engine.exact.lattice import Lattice, aligned_step, item_lattice, trim
+from engine.exact.totals import Cumulants, GridTotal, PointTotal, Total, coarsen
+from engine.exact.wide_item import wide_item_total
+from engine.families.distributions import Distribution, Fixed
 from engine.progress import Progress
 from engine.threads import run_pair
 
-# Grid steps per standard deviation of the total. At this resolution the percentile error
-# from the grid is ~1e-5 sd or less in every test case; the halved grid confirms it per run.
+# Grid steps per unit of the total's central spread (engine.exact.grid_plan). At this
+# resolution the percentile error from the grid is ~1e-5 sd or less in every test case; the
+# halved grid confirms it per run.
 RESOLUTION = 2000
-# Tail probability folded onto an unbounded item's grid ends, per side.
-ITEM_TAIL = 1e-10
+# The inversion gives each cell's probability exactly (engine.exact.inversion), so its grid
+# may be this much coarser than the convolution's, whose hats round every item.
+SPECTRAL_COARSENING = 5
+# The rest's resolution beside an item kept off the grid: each of its points costs one cdf
+# evaluation of the wide item per percentile asked.
+REST_RESOLUTION = 400
+# Longest grid of the rest beside an item kept off it.
+REST_POINTS = 1 << 15
 # Points in one stacked FFT of a tree level's merges (bounds its memory to ~100 MB).
 BATCH_POINTS = 1 << 22
-# Mass below which a tail of a partial convolution is folded into its neighbour.
-TRIM = 1e-15
-# Largest grid one item may take; beyond it the item's tails are folded in harder.
-MAX_ITEM_POINTS = 1 << 22
 # Largest product of two lattices' lengths convolved directly rather than by FFT.
 DIRECT_LIMIT = 640_000
-
-Lattice = tuple[int, np.ndarray]  # (index of the first grid point, masses)
+# Just below whole percentiles: at a point mass's edge the percentile jumps, and a rounding
+# difference between the two grids must not read as an error of the jump's size.
+CHECK_Q = (np.arange(1, 100) - 1e-6) / 100
 
 
 def cumulants_of(dists: Sequence[Distribution]) -> Cumulants:
@@ -59,63 +75,105 @@ def exact_total(
     resolution: int = RESOLUTION,
     progress: Progress | None = None,
     check_error: bool = True,
+    cumulants: Cumulants | None = None,
 ) -> Total:
-    """Distribution of the sum of independent items; see the module docstring."""
+    """Distribution of the sum of independent items; see the module docstring.
+    `cumulants`: the items' summed cumulants when the caller has them already."""
+    # Both cores are busy with the fine grid and its check; BLAS's own threads would spin
+    # (a 14 x 4000 x 166 product took 0.28 s on two threads against 1 ms on one).
+    with _blas().limit(limits=1, user_api="blas"):
+        return _exact_total(dists, resolution, progress, check_error, cumulants)
+
+
+@cache
+def _blas() -> ThreadpoolController:
+    """Found once: finding the libraries costs ~8 ms, more than a small total takes."""
+    return ThreadpoolController()
+
+
+def _exact_total(
+    dists: Sequence[Distribution],
+    resolution: int,
+    progress: Progress | None,
+    check_error: bool,
+    cumulants: Cumulants | None,
+) -> Total:
     progress = progress or Progress()
-    cumulants = cumulants_of(dists)
+    cumulants = cumulants or cumulants_of(dists)
     shift = math.fsum(d.value for d in dists if isinstance(d, Fixed))
-    uncertain = [d for d in dists if not isinstance(d, Fixed) and d.variance > 0]
+    kept = [i for i, d in enumerate(dists) if not isinstance(d, Fixed) and d.variance > 0]
+    uncertain = [dists[i] for i in kept]
     shift += math.fsum(d.mean for d in dists if not isinstance(d, Fixed) and d.variance <= 0)
     if not uncertain:
         return PointTotal(shift)
-
-    step = aligned_step(uncertain, cumulants.sd / resolution)
-    lattices, folded = _item_lattices(uncertain, step, lambda f: progress.report(0.3 * f))
-
-    def fine_tree() -> tuple[int, np.ndarray]:
-        return _convolve_tree(list(lattices), lambda f: progress.report(0.3 + 0.7 * f))
-
-    if not check_error:
-        fine = fine_tree()
-        return GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
-    # The check at twice the step is independent of the fine result: the other core does it.
-    fine, coarse = run_pair(
-        fine_tree, lambda: _convolve_tree([coarsen(lat) for lat in lattices], lambda f: None)
+    plan = plan_grid(uncertain, resolution)
+    if plan.wide is None:
+        return grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
+    others = uncertain[: plan.wide] + uncertain[plan.wide + 1 :]
+    if not others:
+        return wide_item_total(uncertain[plan.wide], PointTotal(shift), cumulants, 0.0)
+    rest_plan = plan_grid(others, min(resolution, REST_RESOLUTION))
+    if rest_plan.wide is not None:
+        second = kept[rest_plan.wide + (rest_plan.wide >= plan.wide)]
+        raise TooWideForOneGrid(kept[plan.wide], second)
+    # every rest point costs one cdf evaluation of the wide item per percentile: keep the
+    # rest's grid short (the check at twice its step reports what that costs in accuracy)
+    rest_step = rest_plan.step * max(1.0, window(others, rest_plan.step)[1] / REST_POINTS)
+    rest = grid_total(others, shift, rest_step, cumulants_of(others), progress, check_error)
+    return wide_item_total(
+        uncertain[plan.wide], rest, cumulants, getattr(rest, "truncated_mass", 0.0)
     )
+
+
+def grid_total(
+    dists: Sequence[Distribution],
+    shift: float,
+    target_step: float,
+    cumulants: Cumulants,
+    progress: Progress,
+    check_error: bool = True,
+) -> GridTotal:
+    """The items convolved on one grid near `target_step`, plus `shift`, with the error
+    estimate from the same total at twice the step."""
+    # A smooth total has no point mass to keep on a grid point: no need to align the step.
+    spectral = SpectralSum(dists, target_step * SPECTRAL_COARSENING)
+    if spectral.is_smooth():
+        step = spectral.step
+        fine, coarse = spectral.lattices(progress)
+        folded = spectral.folded
+    else:
+        step = aligned_step(dists, target_step)
+        lattices, folded = _item_lattices(dists, step, lambda f: progress.report(0.3 * f))
+        spread = HatSpread.of(dists, lattices, step)
+
+        def fine_tree() -> tuple[int, np.ndarray]:
+            tree = _convolve_tree(list(lattices), lambda f: progress.report(0.3 + 0.7 * f))
+            return sharpened(tree, spread, 1)
+
+        if not check_error:
+            fine = fine_tree()
+            return GridTotal(
+                shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded
+            )
+        # The check at twice the step is independent of the fine result: the other core does it.
+        fine, coarse = run_pair(
+            fine_tree,
+            lambda: sharpened(
+                _convolve_tree([coarsen(*lat) for lat in lattices], lambda f: None), spread, 2
+            ),
+        )
     total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
     coarse_total = GridTotal(shift + coarse[0] * 2 * step, 2 * step, coarse[1], cumulants)
-    # Just below whole percentiles: at a point mass's edge the percentile jumps, and a
-    # rounding difference between the two grids must not read as an error of the jump's size.
-    q = (np.arange(1, 100) - 1e-6) / 100
-    bound = float(np.max(np.abs(total.ppf(q) - coarse_total.ppf(q))))
+    x = total.ppf(CHECK_Q)
     return GridTotal(
-        total.origin, step, total.masses, cumulants, error_bound=bound, truncated_mass=folded
+        total.origin,
+        step,
+        total.masses,
+        cumulants,
+        error_bound=float(np.max(np.abs(x - coarse_total.ppf(CHECK_Q)))),
+        truncated_mass=folded,
+        error_probability=float(np.max(np.abs(total.cdf(x) - coarse_total.cdf(x)))),
     )
-
-
-def aligned_step(dists: Sequence[Distribution], target: float) -> float:
-    """The largest step at most `target` on which every stated point value (a risk event's
-    fixed impact, a discrete value) is a grid point, so that point masses stay points; the
-    target itself when their common quantum would force a much finer grid."""
-    points = [v for d in dists for v, _ in d.parts()[0] if v != 0]
-    if not points:
-        return target
-    quantum = _common_quantum(points)
-    if quantum is None or quantum < target / 64:
-        return target
-    per_quantum = 2 * math.ceil(quantum / (2 * target))  # even, so twice the step aligns too
-    return quantum / per_quantum
-
-
-def _common_quantum(values: Sequence[float]) -> float | None:
-    """Greatest common divisor of values stated with up to six decimals, or None."""
-    for decimals in range(7):
-        scale = 10**decimals
-        scaled = [v * scale for v in values]
-        ints = [round(x) for x in scaled]
-        if all(abs(x - i) <= 1e-9 * max(abs(x), 1.0) for x, i in zip(scaled, ints, strict=True)):
-            return math.gcd(*(abs(i) for i in ints)) / scale
-    return None
 
 
 def _item_lattices(
@@ -130,21 +188,6 @@ def _item_lattices(
         if i % 64 == 0:
             report(i / len(dists))
     return lattices, folded
-
-
-def coarsen(lattice: Lattice) -> Lattice:
-    """The same item on the grid of twice the step, without evaluating it again: a hat of
-    width 2h is exactly half, one and half of the three width-h hats beneath it."""
-    start, masses = lattice
-    if start % 2:
-        start, masses = start - 1, np.concatenate([[0.0], masses])
-    if len(masses) % 2 == 0:
-        masses = np.concatenate([masses, [0.0]])
-    even = masses[0::2].copy()
-    odd = masses[1::2]
-    even[:-1] += 0.5 * odd
-    even[1:] += 0.5 * odd
-    return start // 2, even
 
 
 def _convolve_tree(
@@ -200,7 +243,7 @@ def _merge_batch(batch: list[tuple[Lattice, Lattice]]) -> list[Lattice]:
     products = sp_fft.irfft(sp_fft.rfft(left, nfft) * sp_fft.rfft(right, nfft), nfft)
     np.maximum(products, 0.0, out=products)
     return [
-        _trim(a[0] + b[0], products[i, : len(a[1]) + len(b[1]) - 1])
+        trim(a[0] + b[0], products[i, : len(a[1]) + len(b[1]) - 1])
         for i, (a, b) in enumerate(batch)
     ]
 
@@ -214,79 +257,4 @@ def _merge(a: Lattice, b: Lattice) -> Lattice:
     else:
         masses = signal.fftconvolve(a[1], b[1])
     np.maximum(masses, 0.0, out=masses)
-    return _trim(a[0] + b[0], masses)
-
-
-def _trim(start: int, masses: np.ndarray) -> Lattice:
-    """Fold tails holding less than TRIM of the mass into the first and last kept points."""
-    cum = np.cumsum(masses)
-    total = cum[-1]
-    lo = int(np.searchsorted(cum, TRIM * total, side="right"))
-    hi = int(np.searchsorted(cum, (1 - TRIM) * total, side="left"))
-    lo, hi = min(lo, len(masses) - 1), min(max(hi, lo), len(masses) - 1)
-    if lo == 0 and hi == len(masses) - 1:
-        return start, masses
-    kept = masses[lo : hi + 1].copy()
-    kept[0] += cum[lo] - masses[lo] if lo > 0 else 0.0
-    kept[-1] += total - cum[hi]
-    return start + lo, kept
-
-
-def item_lattice(d: Distribution, step: float) -> tuple[int, np.ndarray, float]:
-    """One item's masses on the grid k * step: (first k, masses, tail mass folded in)."""
-    atoms, continuous = d.parts()
-    pieces: list[Lattice] = []
-    folded = 0.0
-    for weight, part in continuous:
-        start, masses, tail = _continuous_lattice(part, step)
-        pieces.append((start, weight * masses))
-        folded += weight * tail
-    for value, mass in atoms:
-        pos = value / step
-        k = math.floor(pos)
-        frac = pos - k
-        pieces.append((k, np.array([mass * (1 - frac), mass * frac])))
-    start = min(p[0] for p in pieces)
-    stop = max(p[0] + len(p[1]) for p in pieces)
-    out = np.zeros(stop - start)
-    for k, masses in pieces:
-        out[k - start : k - start + len(masses)] += masses
-    return start, out, folded
-
-
-def _continuous_lattice(part, step: float) -> tuple[int, np.ndarray, float]:
-    lo, hi = part.bounds()
-    tail = 0.0
-    if not _bounded(part):
-        lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
-        tail = 2 * ITEM_TAIL
-        if (hi - lo) / step > MAX_ITEM_POINTS:
-            # Heavy tail: keep the grid affordable by folding more of the far tail.
-            hi = lo + MAX_ITEM_POINTS * step
-            tail = ITEM_TAIL + 1 - float(part.cdf(hi))
-    k0 = math.floor(lo / step)
-    k1 = math.ceil(hi / step)
-    grid = np.arange(k0, k1 + 2) * step
-    n = len(grid) - 1  # grid points; grid[i] to grid[i + 1] is cell i
-    below = int(np.searchsorted(grid[:-1], part.mean, side="left"))
-    # Average cdf and survival over each cell [k h, (k+1) h], each from the side of the mean
-    # where it is computed without cancellation (and only there: it is most of the cost);
-    # a point's hat mass is a difference of neighbouring cells.
-    masses = np.empty(n)
-    if below:
-        mean_cdf = np.diff(part.integrated_cdf(grid[: below + 1])) / step
-        masses[:below] = np.diff(mean_cdf, prepend=0.0)
-    if below < n:
-        first = max(below - 1, 0)
-        mean_surv = -np.diff(part.integrated_survival(grid[first:])) / step
-        mean_surv[-1] = 0.0  # the last point takes whatever lies beyond it
-        if below == 0:
-            mean_surv = np.concatenate([[1.0], mean_surv])
-        masses[below:] = mean_surv[:-1] - mean_surv[1:]
-    np.maximum(masses, 0.0, out=masses)
-    masses /= masses.sum()
-    return k0, masses, tail
-
-
-def _bounded(part) -> bool:
-    return isinstance(part, Uniform | Triangular | Beta)
+    return trim(a[0] + b[0], masses)

@@ -112,6 +112,7 @@ class GridTotal(Total):
     cumulants: Cumulants
     error_bound: float = 0.0  # largest percentile change when the grid is halved (money)
     truncated_mass: float = 0.0  # tail mass folded onto the grid's ends
+    error_probability: float = 0.0  # the same change read in probability, |F(x_q) - q|
     kind: str = "exact"
     _edges_cum: np.ndarray = field(init=False, repr=False, compare=False)
 
@@ -140,9 +141,8 @@ class GridTotal(Total):
     def cdf(self, x):
         x = np.asarray(x, dtype=float)
         out = np.interp(x, self.edges, self._edges_cum)
-        cell = np.clip(
-            np.rint((x - self.origin) / self.step).astype(np.int64), 0, len(self.masses) - 1
-        )
+        cell = np.clip(np.rint((x - self.origin) / self.step), 0, len(self.masses) - 1)
+        cell = cell.astype(np.int64)
         atom = self._atom_cell[cell]
         if np.any(atom):
             at_or_above = x >= self.origin + cell * self.step
@@ -163,6 +163,26 @@ class GridTotal(Total):
     def density(self) -> tuple[np.ndarray, np.ndarray]:
         """Grid values and the density there (mass / step), for charts."""
         return self.values, self.masses / self.step
+
+
+def coarsen(start: int, masses: np.ndarray) -> tuple[int, np.ndarray]:
+    """Masses at k * h onto the grid of 2h without evaluating anything again: a hat of width
+    2h is exactly half, one and half of the three width-h hats beneath it."""
+    if start % 2:
+        start, masses = start - 1, np.concatenate([[0.0], masses])
+    if len(masses) % 2 == 0:
+        masses = np.concatenate([masses, [0.0]])
+    even = masses[0::2].copy()
+    odd = masses[1::2]
+    even[:-1] += 0.5 * odd
+    even[1:] += 0.5 * odd
+    return start // 2, even
+
+
+def coarsened_total(total: GridTotal) -> GridTotal:
+    """The same total on a grid of twice the step (for error checks)."""
+    start, masses = coarsen(0, total.masses)
+    return GridTotal(total.origin + start * 2 * total.step, 2 * total.step, masses, total.cumulants)
 
 
 @dataclass(frozen=True)

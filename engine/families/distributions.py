@@ -54,6 +54,12 @@ class Distribution:
         """E|X - c|^3, by default about the mean: the Berry–Esseen numerator."""
         raise NotImplementedError
 
+    @cached_property
+    def abs_moment3_about_mean(self) -> float:
+        """E|X - mean|^3, kept: items outlive analyses (validation caches them), so an edit
+        recomputes only the edited item's."""
+        return self.abs_moment3()
+
     def cdf(self, x: ArrayLike) -> np.ndarray:
         raise NotImplementedError
 

@@ -9,7 +9,7 @@ from dataclasses import asdict, dataclass
 import numpy as np
 from scipy import special
 
-from engine.exact.totals import GridTotal, SampleTotal, Total
+from engine.exact.totals import Cumulants, GridTotal, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import LineItem
 
@@ -79,8 +79,10 @@ class NormalGap:
     at_level: float  # the total's cdf there, in percent
 
 
-def kolmogorov_gap(total: Total) -> NormalGap:
-    mean, sd = total.mean, total.sd
+def kolmogorov_gap(total: Total, shortcut: Cumulants | None = None) -> NormalGap:
+    """Against the normal with `shortcut`'s mean and sd (the items' exact ones), or with the
+    total's own when None (correlated items, whose sd needs the covariances)."""
+    mean, sd = (shortcut.mean, shortcut.sd) if shortcut is not None else (total.mean, total.sd)
     if sd <= 0:
         return NormalGap(0.0, mean, 50.0)
     if isinstance(total, SampleTotal):

@@ -1,0 +1,107 @@
+"""Where the total's probability is, and so how fine its grid must be.
+
+The grid step used to follow the total's standard deviation. A far tail (a lognormal with
+P90/P10 = 10^4) makes the sd enormous while almost all the probability sits near the median:
+the step then swallowed the median whole. The step now follows each item's central spread
+(its sd, or its P10-P90 range read as a normal's when that is smaller), and an item whose
+range to ITEM_TAIL would need more grid points than WIDE_POINTS at that step is kept out of
+the grid altogether (engine.exact.wide_item evaluates its own cdf against the rest's grid).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+
+from engine.families.distributions import Beta, Continuous, Distribution, Triangular, Uniform
+
+# P90 - P10 of a normal, in standard deviations: 2 * Phi^-1(0.9).
+NORMAL_P10_P90 = 2.5631031310892007
+# Tail probability folded onto an unbounded item's grid ends, per side.
+ITEM_TAIL = 1e-10
+# An item needing more grid points than this is evaluated by its own cdf (see the docstring).
+WIDE_POINTS = 1 << 22
+
+
+@lru_cache(maxsize=65536)
+def central_spread(d: Distribution) -> float:
+    """The item's spread where its probability is: the sd of its parts, each continuous part
+    read with its median and min(sd, (P90 - P10) / 2.563) so that a far tail cannot inflate it."""
+    atoms, continuous = d.parts()
+    weights, centres, variances = [], [], []
+    for value, mass in atoms:
+        weights.append(mass)
+        centres.append(value)
+        variances.append(0.0)
+    for weight, part in continuous:
+        p10, p50, p90 = (float(v) for v in part.ppf(np.array([0.1, 0.5, 0.9])))
+        weights.append(weight)
+        centres.append(p50)
+        variances.append(min(_variance_or_inf(part), ((p90 - p10) / NORMAL_P10_P90) ** 2))
+    w, c, v = np.array(weights), np.array(centres), np.array(variances)
+    mid = float(w @ c) / float(w.sum())
+    return math.sqrt(max(float(w @ (v + (c - mid) ** 2)) / float(w.sum()), 0.0))
+
+
+def _variance_or_inf(part: Continuous) -> float:
+    try:
+        return float(part.variance)
+    except OverflowError:
+        return math.inf
+
+
+def part_range(part: Continuous) -> tuple[float, float, float]:
+    """(low, high, folded tail mass) of a continuous part's grid: its bounds when bounded,
+    else its quantiles at ITEM_TAIL and 1 - ITEM_TAIL."""
+    if isinstance(part, Uniform | Triangular | Beta):
+        lo, hi = part.bounds()
+        return lo, hi, 0.0
+    lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
+    return lo, hi, 2 * ITEM_TAIL
+
+
+@lru_cache(maxsize=65536)
+def item_range(d: Distribution) -> tuple[float, float]:
+    """The lowest and highest value an item's grid holds (its point masses included)."""
+    atoms, continuous = d.parts()
+    ends = [v for v, _ in atoms]
+    for _, part in continuous:
+        ends += part_range(part)[:2]
+    return min(ends), max(ends)
+
+
+class TooWideForOneGrid(ValueError):
+    """Two items each too wide for a grid: only one can be evaluated by its own cdf."""
+
+    def __init__(self, first: int, second: int) -> None:
+        self.first, self.second = first, second  # indices into the items given
+        super().__init__(f"items {first} and {second} are both too wide for one grid")
+
+
+@dataclass(frozen=True)
+class GridPlan:
+    """The target step, and the index of the one item kept off the grid (None: none)."""
+
+    step: float
+    wide: int | None
+
+
+def plan_grid(dists: Sequence[Distribution], resolution: int) -> GridPlan:
+    """The step from the items' central spreads; the widest unbounded item taken off the
+    grid when its range would take more than WIDE_POINTS steps."""
+    spreads = np.array([central_spread(d) for d in dists])
+    scale = math.sqrt(float(spreads @ spreads))
+    if not scale > 0:  # rare events only: every central spread is a point; use the sd
+        scale = math.sqrt(math.fsum(d.variance for d in dists))
+    step = scale / resolution
+    widest, most = None, 0.0
+    for i, d in enumerate(dists):
+        for _, part in d.parts()[1]:
+            lo, hi, folded = part_range(part)
+            if folded and (hi - lo) / step > most:
+                widest, most = i, (hi - lo) / step
+    return GridPlan(step, widest if most > WIDE_POINTS else None)

@@ -1,0 +1,44 @@
+"""The exact total, or a refusal naming the items it cannot combine and the way out."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from engine.exact.convolution import exact_total
+from engine.exact.grid_plan import TooWideForOneGrid
+from engine.exact.totals import Cumulants, Total
+from engine.families.distributions import Distribution
+from engine.items import InputError, LineItem, Problem
+from engine.progress import Progress
+
+
+def exact_total_or_refusal(
+    items: Sequence[LineItem],
+    dists: Sequence[Distribution],
+    progress: Progress,
+    cumulants: Cumulants,
+) -> Total:
+    """exact_total, with two items too wide for one grid turned into an InputError."""
+    try:
+        return exact_total(dists, progress=progress, cumulants=cumulants)
+    except TooWideForOneGrid as both:
+        raise too_wide_refusal(
+            items, both, "narrow one of the two ranges, or choose the simulation method."
+        ) from None
+
+
+def too_wide_refusal(items: Sequence[LineItem], both: TooWideForOneGrid, fix: str) -> InputError:
+    first, second = items[both.first], items[both.second]
+    return InputError(
+        [
+            Problem(
+                f"'{second.name}' and '{first.name}' each spread over more orders of"
+                " magnitude than one exact grid can hold with the other beside it.",
+                fix,
+                item=second.name,
+                row=second.row,
+                column="High",
+                sheet=second.sheet,
+            )
+        ]
+    )
