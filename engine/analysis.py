@@ -48,8 +48,7 @@ from engine.shortcut.normal import (
     sum_of_item_percentiles,
 )
 from engine.shortcut.verdict import count, dependence_reasons, reasons_for, summary_sentence
-from engine.simulation.factor_pairing import FactorPairing
-from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.factor_pairing import pairing_for
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
 from engine.threads import beside
@@ -355,7 +354,7 @@ def simulate_correlated(
 ) -> tuple[Total, Dependence, CorrelatedSampleStatistics]:
     """The correlated simulation, its sample statistics, and the same items independent."""
     factored = aims.model is not None
-    pairing = FactorPairing(aims.model) if factored else ImanConoverPairing(aims.pearson_used)
+    pairing = pairing_for(aims)
     measured = measured_items(aims.structure)
     stats = CorrelatedSampleStatistics(dists, measured)
     pending = beside(lambda: exact_total(dists, progress=tracker.silent(), check_error=False))

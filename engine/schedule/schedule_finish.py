@@ -12,7 +12,12 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from engine.dependence.correlation import Dependence, Targets, achieved_against
+from engine.dependence.correlation import (
+    Dependence,
+    Targets,
+    achieved_against,
+    measured_items,
+)
 from engine.exact.convolution import cumulants_of, exact_total
 from engine.exact.totals import Total
 from engine.families.distributions import Distribution
@@ -24,7 +29,7 @@ from engine.schedule.latest_simulated import simulated_finish
 from engine.schedule.merge_bias import PathsSection, longest_index, paths_section
 from engine.schedule.paths import SchedulePath, shared_activities
 from engine.shortcut.normal import correlated_normal_variance
-from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.factor_pairing import pairing_for
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
 
 
@@ -66,19 +71,21 @@ def schedule_finish(
         if method == "simulation":
             why = "simulation was chosen in the settings"
         elif aims is not None:
-            why = "activities are correlated (induced by Iman-Conover)"
+            why = "activities are correlated (induced by " + (
+                "block factors)" if aims.model is not None else "Iman–Conover)"
+            )
         else:
             why = f"{len(shared)} activit{'y lies' if len(shared) == 1 else 'ies lie'} on several paths"
         run = {"trials": trials, "seed": seed, "sampling": sampling}
         if aims is None:
             finish = simulated_finish(dists, paths, **run, progress=progress)
         else:
-            stats = CorrelatedSampleStatistics(dists)
+            stats = CorrelatedSampleStatistics(dists, measured_items(aims.structure))
             finish = simulated_finish(
                 dists,
                 paths,
                 **run,
-                pairing=ImanConoverPairing(aims.pearson_used),
+                pairing=pairing_for(aims),
                 observe=stats,
                 progress=progress.part(0, 0.8),
             )
@@ -119,16 +126,24 @@ def path_dependence(
     path's with covariances (the classic method's path), its totals are finishes."""
     means = [math.fsum(dists[i].mean for i in p.members) for p in paths]
     on_longest = list(paths[longest_index(means)].members)
-    sds = np.array([dists[i].sd for i in on_longest])
-    deviation, worst = achieved_against(aims, stats.achieved)
+    measured = measured_items(aims.structure)
+    deviation, worst, summary = achieved_against(aims, stats.achieved, measured)
+    if aims.model is not None:  # block factors: s'Rs with the sds of other paths set to 0
+        sds = np.zeros(len(dists))
+        sds[on_longest] = [dists[i].sd for i in on_longest]
+        variance = aims.structure.pearson().quadratic_form(sds)
+    else:
+        sds = np.array([dists[i].sd for i in on_longest])
+        variance = correlated_normal_variance(
+            sds, aims.pearson_used[np.ix_(on_longest, on_longest)]
+        )
     return Dependence(
         **vars(aims),
-        achieved=stats.achieved,
+        achieved=stats.achieved if len(measured) == len(dists) else None,
         achieved_max_deviation=deviation,
         worst_achieved=worst,
-        shortcut_variance=correlated_normal_variance(
-            sds, aims.pearson_used[np.ix_(on_longest, on_longest)]
-        ),
+        shortcut_variance=variance,
         sd_dependent=finish.total.sd,
         independent_total=independent,
+        achieved_summary=summary,
     )

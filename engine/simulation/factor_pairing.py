@@ -16,6 +16,8 @@ import numpy as np
 from scipy import sparse
 
 from engine.dependence.block_structure import FactorModel
+from engine.dependence.correlation import Targets
+from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.ranking import unit_score_orders
 from engine.simulation.workspace import Workspace
 
@@ -53,3 +55,11 @@ class FactorPairing:
         return unit_score_orders(
             z, out=work.get("positions", (items, n), np.intp), work=shared.view(np.uint32)
         )
+
+
+def pairing_for(aims: Targets) -> FactorPairing | ImanConoverPairing:
+    """Block factors when the stated structure has that form at scale, else Iman–Conover on
+    the matrix used."""
+    if aims.model is not None:
+        return FactorPairing(aims.model)
+    return ImanConoverPairing(aims.pearson_used)
