@@ -13,6 +13,7 @@ from charts.style import (
     TOTAL,
     axis_label,
     display_text,
+    legend_above,
     money_axis,
     style_axes,
 )
@@ -49,4 +50,4 @@ def draw_before_after(ax: Axes, comparison: Comparison, unit: str = "") -> None:
     ax.set_xlabel(axis_label("Total", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Confidence level (%)", fontsize=FONT_SIZE)
     ax.set_ylim(0, 100)
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)

@@ -7,6 +7,7 @@ import argparse
 from collections.abc import Sequence
 from typing import TextIO
 
+from charts import numbers
 from engine.allocation import Allocation
 
 
@@ -34,23 +35,29 @@ def parse_budgets(texts: Sequence[str] | None) -> list[float]:
 
 
 def print_allocation(allocation: Allocation, unit: str, out: TextIO) -> None:
-    money = f" {unit}" if unit else ""
-    for c in [allocation.base_confidence, *allocation.budgets]:
-        error = "" if c.standard_error is None else f" (± {100 * c.standard_error:.2f}%)"
+    levels = allocation.levels
+    said = [allocation.base_confidence, *allocation.budgets]
+    # The total's decimals for every amount, as in the level table printed above.
+    decimals = numbers.decimals_for([allocation.base_confidence.amount])
+    for c in said:
+        error = "" if c.standard_error is None else f" (± {numbers.percent(c.standard_error, 2)})"
         print(
-            f"chance the total stays within the {c.label} {c.amount:,.0f}{money}:"
-            f" {100 * c.probability:.1f}%{error}",
+            f"chance the total stays within the {c.label} {numbers.money(c.amount, unit, decimals)}:"
+            f" {numbers.percent(c.probability)}{error}",
             file=out,
         )
-    levels = allocation.levels
     print("contingency by group (conditional expectation / naive):", file=out)
-    header = f"{'group':<32}" + "".join(f"{'P' + format(r.level, 'g'):>24}" for r in levels)
+    header = f"{'group':<32}" + "".join(f"{numbers.level(r.level):>24}" for r in levels)
     print(header, file=out)
     for group in levels[0].groups:
         cells = []
         for r in levels:
-            naive = "-" if r.naive_groups is None else f"{r.naive_groups[group]:,.0f}"
-            cells.append(f"{r.groups[group]:>12,.0f} /{naive:>10}")
+            naive = (
+                "-"
+                if r.naive_groups is None
+                else numbers.money(r.naive_groups[group], decimals=decimals)
+            )
+            cells.append(f"{numbers.money(r.groups[group], decimals=decimals):>12} /{naive:>10}")
         print(f"{group[:32]:<32}" + "".join(f"{c:>24}" for c in cells), file=out)
     for r in levels:
         print(r.note, file=out)

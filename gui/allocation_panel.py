@@ -4,7 +4,7 @@ the base estimate, and the confidence of a budget the user types."""
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QEventLoop, Qt, QTimer
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -19,6 +19,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts import numbers
 from engine import Analysis, Estimate
 from engine.allocation import Allocation
 from engine.allocation.confidence import confidence_of
@@ -45,8 +46,10 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         naive = [None] * len(names) if row.naive is None else list(row.naive)
         errors = [None] * len(names) if row.standard_errors is None else list(row.standard_errors)
     if by == "risk event":  # the ranking's figures beside each event's name
+        decimals = numbers.decimals_for([allocation.base_confidence.amount])
         said = {
-            r.name: f"{r.name}  (p {100 * r.probability:g}%, expected {r.expected_value:,.0f})"
+            r.name: f"{r.name}  (chance {numbers.probability(r.probability)}, "
+            f"expected {numbers.money(r.expected_value, decimals=decimals)})"
             for r in allocation.risk_events
         }
         kept = [k for k, n in enumerate(names) if n in said]
@@ -57,14 +60,6 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         for n, s, v, e in zip(names, shares, naive, errors, strict=True)
     ]
     return sorted(out, key=lambda r: -abs(r[1]))
-
-
-def _money(x: float | None) -> str:
-    return "" if x is None else f"{x:,.0f}"
-
-
-def _percent(x: float | None) -> str:
-    return "" if x is None else f"{100 * x:.1f}%"
 
 
 class AllocationPanel(QWidget):
@@ -147,6 +142,19 @@ class AllocationPanel(QWidget):
             return None
         return shown
 
+    def allocation_when_ready(self, analysis: Analysis) -> Allocation | None:
+        """`allocation_for`, after waiting for a running allocation of this analysis: the
+        report then need not allocate again on the GUI thread. The window keeps responding
+        while it waits (a local event loop), and a newer result ends the wait."""
+        if self.worker.busy and self.analysis is analysis:
+            loop = QEventLoop()
+            poll = QTimer(interval=50)
+            poll.timeout.connect(lambda: None if self.worker.busy else loop.quit())
+            poll.start()
+            loop.exec()
+            poll.stop()
+        return self.allocation_for(analysis)
+
     def show_allocation(self, allocation: Allocation) -> None:
         self.allocation = allocation
         chosen = self.level.currentText()
@@ -157,11 +165,12 @@ class AllocationPanel(QWidget):
         self.level.setCurrentIndex(index if index >= 0 else len(allocation.levels) - 1)
         self.level.blockSignals(False)
         base = allocation.base_confidence
-        money = f" {self.unit}" if self.unit else ""
+        how = "exact" if allocation.method == "exact" else "from the trials near the level"
         self.base_said.setText(
-            f"Chance of the base estimate ({base.amount:,.0f}{money}): "
-            f"{100 * base.probability:.1f}%. Shares: E[item | total at the level] less the "
-            f"item's base value, {'exact' if allocation.method == 'exact' else 'from the trials near the level'}."
+            f"Chance of the base estimate ({self._money(base.amount)}): "
+            f"{numbers.percent(base.probability)}. Each share is what the item is expected to "
+            f"cost when the total is at the level, less its base value ({how}; Euler "
+            "allocation by conditional expectation)."
         )
         self.status.setText("")
         self._refresh()
@@ -173,15 +182,16 @@ class AllocationPanel(QWidget):
         j = self.level.currentIndex()
         by = ("group", "item", "risk event")[self.by.currentIndex()]
         rows = allocation_rows(allocation, j, by)
+        decimals = numbers.decimals_for([allocation.base_confidence.amount])  # the total's
         self.table.setRowCount(len(rows))
         for r, row in enumerate(rows):
             cells = (
                 row[0],
-                _money(row[1]),
-                _percent(row[2]),
-                _money(row[3]),
-                _percent(row[4]),
-                _money(row[5]),
+                numbers.money(row[1], decimals=decimals),
+                numbers.percent(row[2]),
+                numbers.money(row[3], decimals=decimals),
+                numbers.percent(row[4]),
+                numbers.money(row[5], decimals=decimals),
             )
             for c, text in enumerate(cells):
                 item = QTableWidgetItem(text)
@@ -211,7 +221,15 @@ class AllocationPanel(QWidget):
             self.budget_said.setText(f"{bad.message} {bad.fix}")
             return
         said = confidence_of(self.analysis.total, amount, self.analysis.base_estimate, "budget")
-        error = "" if said.standard_error is None else f" ± {100 * said.standard_error:.2f}%"
-        self.budget_said.setText(
-            f"confidence {100 * said.probability:.1f}%{error}; contingency {said.contingency:,.0f}"
+        error = (
+            "" if said.standard_error is None else f" ± {numbers.percent(said.standard_error, 2)}"
         )
+        self.budget_said.setText(
+            f"Chance of staying within it: {numbers.percent(said.probability)}{error}; "
+            f"contingency {self._money(said.contingency)}"
+        )
+
+    def _money(self, x: float) -> str:
+        """An amount in the unit, in the decimals of the total it is part of."""
+        total = self.analysis.total.mean if self.analysis is not None else x
+        return numbers.money(x, self.unit, numbers.decimals_for([total]))

@@ -25,6 +25,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout,
 )
 
+from charts import numbers
 from engine import Cancelled, InputError, analyze
 from engine.allocation import allocate
 from engine.comparison import Comparison, compare
@@ -155,18 +156,24 @@ class CompareDialog(QDialog):
         self.export_button.setEnabled(True)
         b, a = result.before_allocation.base_confidence, result.after_allocation.base_confidence
         self.summary.setText(
-            f"{result.summary} Chance of the base estimate: {100 * b.probability:.1f}% -> "
-            f"{100 * a.probability:.1f}%."
+            f"{result.summary} Chance of the base estimate: {numbers.percent(b.probability)} → "
+            f"{numbers.percent(a.probability)}."
         )
+        decimals = numbers.decimals_for(v for r in result.levels for v in (r.before, r.after))
         levels = [
             [
-                f"P{r.level:g}",
-                f"{r.before:,.0f}",
-                f"{r.after:,.0f}",
-                f"{r.difference:,.0f}",
-                f"{r.contingency_before:,.0f}",
-                f"{r.contingency_after:,.0f}",
-                f"{r.contingency_difference:,.0f}",
+                numbers.level(r.level),
+                *(
+                    numbers.money(v, decimals=decimals)
+                    for v in (
+                        r.before,
+                        r.after,
+                        r.difference,
+                        r.contingency_before,
+                        r.contingency_after,
+                        r.contingency_difference,
+                    )
+                ),
             ]
             for r in result.levels
         ]
@@ -183,7 +190,7 @@ class CompareDialog(QDialog):
         chart.show_chart(draw_before_after, result, self.unit)
         top = result.levels[-1].level
         groups = [
-            [g, "" if x is None else f"{x:,.0f}", "" if y is None else f"{y:,.0f}"]
+            [g, numbers.money(x, decimals=decimals), numbers.money(y, decimals=decimals)]
             for g, x, y in result.group_changes(top)
         ]
         changes = [[c.name, c.group, c.kind, c.describe()] for c in result.changes]
@@ -191,7 +198,11 @@ class CompareDialog(QDialog):
         self.tabs.addTab(_table(headers, levels, "compare-levels"), "Levels")
         self.tabs.addTab(
             _table(
-                ["Group", f"P{top:g} share before", f"P{top:g} share after"],
+                [
+                    "Group",
+                    f"{numbers.level(top)} share before",
+                    f"{numbers.level(top)} share after",
+                ],
                 groups,
                 "compare-groups",
             ),

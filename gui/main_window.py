@@ -509,7 +509,7 @@ class MainWindow(QMainWindow):
                 outcome.analysis,
                 outcome.settings,
                 source_path=self.path or (Path(self.source) if self.source else None),
-                allocation=self.results.allocation.allocation_for(outcome.analysis),
+                allocation=self.results.allocation.allocation_when_ready(outcome.analysis),
             )
         except (OSError, ValueError) as bad:
             self._warn("The report could not be written", f"{path}: {bad}")

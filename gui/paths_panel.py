@@ -15,6 +15,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from charts import numbers
 from engine import Analysis
 from gui.chart_canvas import ChartCanvas
 
@@ -26,21 +27,25 @@ def path_rows(analysis: Analysis) -> tuple[list[str], list[list[str]]]:
     section = analysis.paths
     if section is None:
         return [], []
-    levels = [f"P{lv:g}" for lv in section.levels]
+    levels = [numbers.level(lv) for lv in section.levels]
     headers = ["Path", "Activities", "Mean", "SD", *levels, "Latest in"]
+    decimals = numbers.decimals_for([section.finish_mean, *section.finish])
+
+    def days(values, sign: bool = False) -> list[str]:
+        return [numbers.money(v, decimals=decimals, sign=sign) for v in values]
+
     rows = []
     for r in section.rows:
-        share = f"{100 * r.criticality:.1f}%"
+        share = numbers.percent(r.criticality)
         if r.criticality_se is not None:
-            share += f" ± {196 * r.criticality_se:.1f}"
+            share += f" ± {numbers.percent(1.96 * r.criticality_se)}"
         name = r.name + (" (longest mean)" if r.longest_mean else "")
-        numbers = [f"{v:,.1f}" for v in (r.mean, r.sd, *r.values)]
-        rows.append([name, str(r.activities), *numbers, share])
-    finish = [f"{v:,.1f}" for v in section.finish]
-    rows.append(["Finish (latest path)", "", f"{section.finish_mean:,.1f}", "", *finish, ""])
-    bias = [f"{v:+,.1f}" for v in section.merge_bias]
-    mean_bias = f"{section.finish_mean - section.longest_mean:+,.1f}"
-    rows.append(["Merge bias", "", mean_bias, "", *bias, ""])
+        rows.append([name, numbers.count(r.activities), *days((r.mean, r.sd, *r.values)), share])
+    rows.append(
+        ["Finish (latest path)", "", *days([section.finish_mean]), "", *days(section.finish), ""]
+    )
+    mean_bias = days([section.finish_mean - section.longest_mean], sign=True)
+    rows.append(["Merge bias", "", *mean_bias, "", *days(section.merge_bias, sign=True), ""])
     return headers, rows
 
 
@@ -62,6 +67,7 @@ class PathsPanel(QWidget):
         layout.addWidget(self.note)
         layout.addWidget(self.table)
         layout.addWidget(charts, 1)
+        self._to_draw: tuple[Analysis, str] | None = None  # a result not drawn yet
 
     def show_analysis(self, analysis: Analysis, unit: str = "") -> bool:
         """Fill the tab; False when the analysis has no paths (the tab is then hidden)."""
@@ -95,10 +101,25 @@ class PathsPanel(QWidget):
         section = analysis.paths
         self.note.setText(
             f"The finish is the latest of {len(section.rows)} paths ({section.method}). "
-            f"The classic method reads the longest-mean path, '{section.longest}', alone."
+            f"Reading only the path with the longest mean, '{section.longest}', misses the "
+            "merge bias: the finish waits for whichever path is latest."
         )
+        self._to_draw = (analysis, unit)
+        if self.isVisible():
+            self._draw()
+        return True
+
+    def showEvent(self, event) -> None:
+        """Charts are drawn when the tab is shown, not on every result while it is hidden."""
+        super().showEvent(event)
+        self._draw()
+
+    def _draw(self) -> None:
+        if self._to_draw is None:
+            return
         from charts.paths import draw_criticality, draw_path_s_curves
 
+        analysis, unit = self._to_draw
+        self._to_draw = None
         self.curves.show_chart(draw_path_s_curves, analysis, unit=unit)
         self.criticality.show_chart(draw_criticality, analysis)
-        return True

@@ -101,7 +101,7 @@ def test_risk_events_view_and_newest_request_wins(make_window, qtbot):
     panel.level.setCurrentIndex(1)  # P90: the flood (15% > 10%) has happened there
     panel.by.setCurrentIndex(2)
     assert panel.table.rowCount() == 1
-    assert panel.table.item(0, 0).text().startswith("Flood  (p 15%, expected 45")
+    assert panel.table.item(0, 0).text().startswith("Flood  (chance 15%, expected 45")
     # the flood carries E[flood | T = P90] - 0: nearly all of its 300
     share = float(panel.table.item(0, 1).text().replace(",", ""))
     assert 250 < share <= 300
@@ -121,3 +121,29 @@ def test_a_failed_analysis_clears_the_allocation(make_window, qtbot):
     window.results.show_problem("row 2, column 'High': the high value is below the low.")
     assert panel.allocation is None and panel.table.rowCount() == 0
     assert "Nothing to allocate" in panel.status.text()
+
+
+def test_export_while_allocating_waits_for_the_worker(make_window, qtbot, tmp_path, monkeypatch):
+    window = make_window()
+    panel = window.results.allocation
+    with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
+        window.set_document(two_uniforms(), exact_settings(), None)
+    assert panel.worker.busy  # the allocation was only requested with the result
+
+    def on_the_gui_thread(*args, **kwargs):
+        raise AssertionError("the report allocated on the GUI thread")
+
+    monkeypatch.setattr("reports.allocate", on_the_gui_thread)
+    written = window.export_report(tmp_path / "report.json")
+    assert written is not None and panel.allocation is not None
+    assert '"allocation"' in written.read_text(encoding="utf-8")
+
+
+def test_labels_and_amounts_read_as_elsewhere():
+    from charts import numbers
+    from gui.allocation_panel import HEADERS
+
+    assert "Naive share" in HEADERS and "Standard error" in HEADERS
+    assert numbers.money(-0.001, decimals=1) == "0.0"  # never '-0.0'
+    assert numbers.money(1200.0, sign=True) == "+1,200"
+    assert numbers.money(-1200.0, sign=True) == "-1,200"

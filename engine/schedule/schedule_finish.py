@@ -66,7 +66,7 @@ def schedule_finish(
         if method == "simulation":
             why = "simulation was chosen in the settings"
         elif aims is not None:
-            why = "activities are correlated (induced by Iman-Conover)"
+            why = "activities are correlated (induced by Iman–Conover)"
         else:
             why = f"{len(shared)} activit{'y lies' if len(shared) == 1 else 'ies lie'} on several paths"
         run = {"trials": trials, "seed": seed, "sampling": sampling}
