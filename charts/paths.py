@@ -17,7 +17,6 @@ from charts.style import (
     TOTAL,
     axis_label,
     elide_middle,
-    legend_above,
     money_axis,
     style_axes,
 )
@@ -46,12 +45,12 @@ def draw_path_s_curves(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     for k, (row, total) in enumerate(zip(section.rows, section.path_totals, strict=True)):
         color, dashes = PATH_LINES[k % len(PATH_LINES)]
         (line,) = ax.plot(total.ppf(q), 100 * q, color=color, ls=dashes, lw=1.2)
-        line.set(label=f"Path {elide_middle(row.name, LABEL_CHARS)}", gid=f"path-{k}")
+        line.set(label=elide_middle(row.name, LABEL_CHARS), gid=f"path-{k}")
     longest = next(r for r in section.rows if r.longest_mean)
     normal = longest.mean + longest.sd * special.ndtri(q)
     (line,) = ax.plot(normal, 100 * q, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
     line.set(
-        label=f"Normal shortcut, longest path ({elide_middle(longest.name, LABEL_CHARS)})",
+        label=f"Normal shortcut ({elide_middle(longest.name, LABEL_CHARS)})",
         gid="normal",
     )
     (line,) = ax.plot(
@@ -75,7 +74,16 @@ def draw_path_s_curves(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     ax.set_xlabel(axis_label("Duration", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Confidence level (%)", fontsize=FONT_SIZE)
     ax.set_ylim(0, 100)
-    legend_above(ax)
+    # Beside the plot, not above: with a line a path the legend above would take most of
+    # the height of the window's chart; beside it, it covers nothing and the curves keep room.
+    ax.legend(
+        loc="center left",
+        bbox_to_anchor=(1.01, 0.5),
+        fontsize=FONT_SIZE - 0.5,
+        frameon=False,
+        handlelength=1.8,
+        borderaxespad=0.2,
+    )
 
 
 def draw_criticality(ax: Axes, analysis: Analysis) -> None:

@@ -26,6 +26,7 @@ from engine.allocation.confidence import confidence_of
 from gui.allocation_worker import AllocationWorker
 from gui.chart_canvas import ChartCanvas
 
+NARROW = 760  # px: a narrower tab puts the chart under the table, not beside it
 HEADERS = ["Name", "Share", "% of contingency", "Naive share", "Naive %", "Standard error"]
 
 
@@ -101,7 +102,7 @@ class AllocationPanel(QWidget):
         controls.addWidget(QLabel("Budget"))
         controls.addWidget(self.budget)
         controls.addWidget(self.budget_said, 1)
-        split = QSplitter(Qt.Orientation.Horizontal)
+        self.split = split = QSplitter(Qt.Orientation.Horizontal)
         split.addWidget(self.table)
         split.addWidget(self.chart)
         split.setSizes([560, 440])
@@ -115,6 +116,16 @@ class AllocationPanel(QWidget):
         self.level.currentIndexChanged.connect(self._refresh)
         self.by.currentIndexChanged.connect(self._refresh)
         self.budget.textChanged.connect(self._show_budget)
+
+    def resizeEvent(self, event) -> None:
+        """Beside each other when there is room; at 1280x800 the tab is about 440 px wide,
+        where a chart beside the table has no room for its bars."""
+        super().resizeEvent(event)
+        narrow = event.size().width() < NARROW
+        wanted = Qt.Orientation.Vertical if narrow else Qt.Orientation.Horizontal
+        if self.split.orientation() != wanted:
+            self.split.setOrientation(wanted)
+            self.split.setSizes([1, 1])
 
     def compute(self, estimate: Estimate, analysis: Analysis, unit: str = "") -> None:
         """Start the allocation of a new analysis; the old figures stay until it arrives."""

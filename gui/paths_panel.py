@@ -8,9 +8,9 @@ from PySide6.QtWidgets import (
     QAbstractItemView,
     QHeaderView,
     QLabel,
-    QSplitter,
     QTableWidget,
     QTableWidgetItem,
+    QTabWidget,
     QVBoxLayout,
     QWidget,
 )
@@ -55,13 +55,18 @@ class PathsPanel(QWidget):
         self.table = QTableWidget(0, 0, objectName="paths")
         self.table.verticalHeader().setVisible(False)
         self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.table.verticalHeader().setDefaultSectionSize(22)
         self.curves = ChartCanvas()
         self.criticality = ChartCanvas()
         self.note = QLabel(objectName="paths-note", wordWrap=True)
-        charts = QSplitter(Qt.Orientation.Horizontal)
-        charts.addWidget(self.curves)
-        charts.addWidget(self.criticality)
-        charts.setSizes([620, 380])
+        # One chart at a time, each the tab's full width: at 1280x800 the tab is about 440 px
+        # wide, too narrow for two charts side by side and the S-curves' legend.
+        self.charts = charts = QTabWidget(objectName="paths-charts")
+        charts.setDocumentMode(True)
+        charts.addTab(self.curves, "S-curves")
+        charts.addTab(self.criticality, "Criticality")
+        charts.setTabToolTip(1, "How often each path is the latest, and so sets the finish")
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.note)
@@ -80,6 +85,8 @@ class PathsPanel(QWidget):
         for r, row in enumerate(rows):
             for c, text in enumerate(row):
                 cell = QTableWidgetItem(text)
+                if c == 0:
+                    cell.setToolTip(text)
                 if c:
                     cell.setTextAlignment(
                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
@@ -90,11 +97,13 @@ class PathsPanel(QWidget):
                     cell.setFont(font)
                 self.table.setItem(r, c, cell)
         header = self.table.horizontalHeader()
-        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
-        for c in range(1, len(headers)):
+        # Whole names, scrolling sideways when the tab is narrow: a path is known by its name.
+        for c in range(len(headers)):
             header.setSectionResizeMode(c, QHeaderView.ResizeMode.ResizeToContents)
+        header.setStretchLastSection(True)
         self.table.setMaximumHeight(
             self.table.horizontalHeader().height()
+            + self.table.horizontalScrollBar().sizeHint().height()
             + 4
             + sum(self.table.rowHeight(r) for r in range(len(rows)))
         )
@@ -104,17 +113,12 @@ class PathsPanel(QWidget):
             f"Reading only the path with the longest mean, '{section.longest}', misses the "
             "merge bias: the finish waits for whichever path is latest."
         )
-        self._to_draw = (analysis, unit)
-        if self.isVisible():
-            self._draw()
+        self._to_draw = (analysis, unit)  # drawn when the tab is shown: draw_pending()
         return True
 
-    def showEvent(self, event) -> None:
-        """Charts are drawn when the tab is shown, not on every result while it is hidden."""
-        super().showEvent(event)
-        self._draw()
-
-    def _draw(self) -> None:
+    def draw_pending(self) -> None:
+        """Draw the charts of the last result, once: called when the tab is shown, so a
+        hidden tab does not redraw on every result."""
         if self._to_draw is None:
             return
         from charts.paths import draw_criticality, draw_path_s_curves
