@@ -31,7 +31,7 @@ def chart_block(flow: Flow, inches: float = CHART_INCHES, left: float = 0.12) ->
     if flow.page.room < inches:
         flow.pages.append(Page(flow.paper, flow.footer))
     page = flow.page
-    top = 1 - (page.y + 0.35) / page.height
+    top = 1 - (page.y + 0.6) / page.height  # room for the title and a legend row above
     bottom = 1 - (page.y + inches - 0.45) / page.height
     grid = page.figure.add_gridspec(1, 1, left=left, right=0.95, top=top, bottom=bottom)
     page.y += inches

@@ -79,7 +79,7 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow.gap()
     changes = said.change_table(comparison)
     if changes.rows:
-        titled_table(flow, "What changed", changes, 6.5, [2.4, 1.2, 0.7, 3.4])
+        titled_table(flow, "What changed", changes, 6.5, [2.2, 1.0, 0.6, 4.0])
     else:
         flow.text("What changed", size=10, weight="bold")
         flow.text("No line item was added, removed or changed.")
