@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 from matplotlib.axes import Axes
+from matplotlib.ticker import MaxNLocator
 
 from charts import numbers
 from charts.style import (
@@ -75,9 +76,12 @@ def draw_allocation(
         )
     ax.set_yticks(y, [elide_middle(n, LABEL_CHARS) for n in names], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
-    style_axes(ax, f"Contingency at {numbers.level(row.level)} by {by}")
+    every = len(allocation_bars(allocation, level, by, top=len(allocation.names))[0])
+    largest = "" if every <= len(names) else f" (the {len(names)} largest)"
+    style_axes(ax, f"Contingency at {numbers.level(row.level)} by {by}{largest}")
     ax.grid(False, axis="y")
     money_axis(ax.xaxis)
+    ax.xaxis.set_major_locator(MaxNLocator(nbins=4))  # the tab is often narrow at 1280x800
     ax.set_xlabel(
         f"Share of the contingency ({unit})" if unit else "Share of the contingency",
         fontsize=FONT_SIZE,

@@ -27,6 +27,8 @@ from gui.allocation_worker import AllocationWorker
 from gui.chart_canvas import ChartCanvas
 
 NARROW = 760  # px: a narrower tab puts the chart under the table, not beside it
+CHART_FRAME_PX = 110  # title, legend and axis of the allocation chart
+BAR_PAIR_PX = 18  # one name's pair of bars, legible
 HEADERS = ["Name", "Share", "% of contingency", "Naive share", "Naive %", "Standard error"]
 
 
@@ -87,6 +89,9 @@ class AllocationPanel(QWidget):
         self.table.setHorizontalHeaderLabels(HEADERS)
         self.table.verticalHeader().setVisible(False)
         self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setWordWrap(False)
+        self.table.verticalHeader().setDefaultSectionSize(22)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Interactive)
         header.resizeSection(0, 170)
@@ -126,6 +131,7 @@ class AllocationPanel(QWidget):
         if self.split.orientation() != wanted:
             self.split.setOrientation(wanted)
             self.split.setSizes([1, 1])
+            self._refresh()  # the chart's height decides how many bars it shows
 
     def compute(self, estimate: Estimate, analysis: Analysis, unit: str = "") -> None:
         """Start the allocation of a new analysis; the old figures stay until it arrives."""
@@ -206,6 +212,8 @@ class AllocationPanel(QWidget):
             )
             for c, text in enumerate(cells):
                 item = QTableWidgetItem(text)
+                if c == 0:
+                    item.setToolTip(text)
                 if c:
                     item.setTextAlignment(
                         Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
@@ -216,8 +224,13 @@ class AllocationPanel(QWidget):
         from charts.allocation import draw_allocation
 
         self.chart.show_chart(
-            draw_allocation, allocation, allocation.levels[j].level, by, self.unit
+            draw_allocation, allocation, allocation.levels[j].level, by, self.unit, self._bars()
         )
+
+    def _bars(self) -> int:
+        """As many names as the chart's height keeps legible (a pair of bars each), 12 at most."""
+        room = self.chart.height() - CHART_FRAME_PX
+        return max(3, min(12, room // BAR_PAIR_PX))
 
     def _show_budget(self) -> None:
         text = self.budget.text().strip()

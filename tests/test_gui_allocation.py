@@ -147,3 +147,25 @@ def test_labels_and_amounts_read_as_elsewhere():
     assert numbers.money(-0.001, decimals=1) == "0.0"  # never '-0.0'
     assert numbers.money(1200.0, sign=True) == "+1,200"
     assert numbers.money(-1200.0, sign=True) == "-1,200"
+
+
+def test_allocation_chart_keeps_both_ends_of_long_names_and_says_when_it_shows_fewer():
+    from matplotlib.figure import Figure
+
+    from charts.allocation import LABEL_CHARS, draw_allocation
+    from engine import analyze
+    from engine.allocation import allocate
+
+    long_name = "Risk: river works window missed, wait a season"
+    items = [
+        LineItem(long_name, "fixed", most_likely=300.0, probability=0.2),
+        *(LineItem(f"Work {k}", "triangular", 90.0, 100.0, 130.0) for k in range(5)),
+    ]
+    estimate = Estimate(items, title="Depot (invented)")
+    allocation = allocate(estimate, analyze(estimate, levels=(50.0, 90.0), method="exact"))
+    ax = Figure().add_subplot()
+    draw_allocation(ax, allocation, 90.0, "item", top=3)
+    labels = [t.get_text() for t in ax.get_yticklabels()]
+    elided = next(t for t in labels if t.startswith("Risk: "))
+    assert "…" in elided and elided.endswith("a season") and len(elided) == LABEL_CHARS
+    assert "(the 3 largest)" in ax.get_title(loc="left") + ax.get_title()
