@@ -160,31 +160,30 @@ class CompareDialog(QDialog):
             f"{numbers.percent(a.probability)}."
         )
         decimals = numbers.decimals_for(v for r in result.levels for v in (r.before, r.after))
+
+        def amount(x: float, sign: bool = False) -> str:
+            return numbers.money(x, decimals=decimals, sign=sign)
+
         levels = [
             [
                 numbers.level(r.level),
-                *(
-                    numbers.money(v, decimals=decimals)
-                    for v in (
-                        r.before,
-                        r.after,
-                        r.difference,
-                        r.contingency_before,
-                        r.contingency_after,
-                        r.contingency_difference,
-                    )
-                ),
+                amount(r.before),
+                amount(r.after),
+                amount(r.difference, sign=True),
+                amount(r.contingency_before),
+                amount(r.contingency_after),
+                amount(r.contingency_difference, sign=True),
             ]
             for r in result.levels
         ]
         headers = [
             "Level",
-            "Before",
-            "After",
+            "Total before",
+            "Total after",
             "Difference",
             "Contingency before",
             "Contingency after",
-            "Change",
+            "Contingency difference",
         ]
         chart = ChartCanvas(height=3.4)
         chart.show_chart(draw_before_after, result, self.unit)

@@ -60,7 +60,7 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow = Flow(paper, footer)
     flow.text("Before and after", size=16, weight="bold")
     flow.text(
-        f"{comparison.before_title}  ->  {comparison.after_title}"
+        f"{comparison.before_title}  →  {comparison.after_title}"
         + (f"  (amounts in {unit})" if unit else ""),
         size=11,
     )
@@ -108,7 +108,7 @@ def _write_xlsx(target: BinaryIO, comparison: Comparison, about: dict[str, Any])
     sheet.title = "Before and after"
     put(sheet, 1, 1, "Before and after").font = BOLD
     put(sheet, 2, 1, CAUTION)  # under the title, as on the report's Summary sheet
-    put(sheet, 3, 1, f"{comparison.before_title} -> {comparison.after_title}")
+    put(sheet, 3, 1, f"{comparison.before_title} → {comparison.after_title}")
     put(sheet, 4, 1, comparison.summary)
     row = put_table(sheet, 6, said.level_table(comparison)) + 1
     row = put_table(sheet, row, said.facts_table(comparison)) + 1
