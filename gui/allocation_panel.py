@@ -118,6 +118,7 @@ class AllocationPanel(QWidget):
         layout.addWidget(self.status)
         layout.addWidget(split, 1)
         layout.addWidget(self.note)
+        self._chart_due = False  # figures shown whose chart is not drawn yet
         self.level.currentIndexChanged.connect(self._refresh)
         self.by.currentIndexChanged.connect(self._refresh)
         self.budget.textChanged.connect(self._show_budget)
@@ -221,11 +222,21 @@ class AllocationPanel(QWidget):
                 self.table.setItem(r, c, item)
         self.table.setColumnHidden(5, allocation.method == "exact")
         self.note.setText(allocation.levels[j].note)
+        self._chart_due = True
+        if self.isVisible():
+            self.draw_pending()
+
+    def draw_pending(self) -> None:
+        """Draw the chart of the figures shown, once: not while the tab is hidden."""
+        allocation = self.allocation
+        if not self._chart_due or allocation is None or self.level.currentIndex() < 0:
+            return
         from charts.allocation import draw_allocation
 
-        self.chart.show_chart(
-            draw_allocation, allocation, allocation.levels[j].level, by, self.unit, self._bars()
-        )
+        self._chart_due = False
+        level = allocation.levels[self.level.currentIndex()].level
+        by = ("group", "item", "risk event")[self.by.currentIndex()]
+        self.chart.show_chart(draw_allocation, allocation, level, by, self.unit, self._bars())
 
     def _bars(self) -> int:
         """As many names as the chart's height keeps legible (a pair of bars each), 12 at most."""

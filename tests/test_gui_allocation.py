@@ -169,3 +169,16 @@ def test_allocation_chart_keeps_both_ends_of_long_names_and_says_when_it_shows_f
     elided = next(t for t in labels if t.startswith("Risk: "))
     assert "…" in elided and elided.endswith("a season") and len(elided) == LABEL_CHARS
     assert "(the 3 largest)" in ax.get_title(loc="left") + ax.get_title()
+
+
+def test_allocation_chart_waits_until_the_tab_is_shown(make_window, qtbot):
+    window = make_window()
+    panel = open_and_allocate(window, qtbot, two_uniforms(), exact_settings())
+    tabs = window.results.tabs
+    assert tabs.currentWidget() is not panel and not panel.chart.figure.axes
+    tabs.setCurrentWidget(panel)
+    assert (
+        panel.chart.figure.axes
+        and "Contingency at P80"
+        in panel.chart.figure.axes[0].get_title(loc="left") + panel.chart.figure.axes[0].get_title()
+    )
