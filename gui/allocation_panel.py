@@ -14,7 +14,6 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QSplitter,
     QTableWidget,
-    QTableWidgetItem,
     QVBoxLayout,
     QWidget,
 )
@@ -25,6 +24,7 @@ from engine.allocation import Allocation
 from engine.allocation.confidence import confidence_of
 from gui.allocation_worker import AllocationWorker
 from gui.chart_canvas import ChartCanvas
+from gui.result_cell import result_cell
 
 NARROW = 760  # px: a narrower tab puts the chart under the table, not beside it
 CHART_FRAME_PX = 110  # title, legend and axis of the allocation chart
@@ -212,14 +212,7 @@ class AllocationPanel(QWidget):
                 numbers.money(row[5], decimals=decimals),
             )
             for c, text in enumerate(cells):
-                item = QTableWidgetItem(text)
-                if c == 0:
-                    item.setToolTip(text)
-                if c:
-                    item.setTextAlignment(
-                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
-                    )
-                self.table.setItem(r, c, item)
+                self.table.setItem(r, c, result_cell(text, c))
         self.table.setColumnHidden(5, allocation.method == "exact")
         self.note.setText(allocation.levels[j].note)
         self._chart_due = True

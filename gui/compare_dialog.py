@@ -95,7 +95,7 @@ def _table(headers: list[str], rows: list[list[str]], name: str) -> QTableWidget
     for r, row in enumerate(rows):
         for c, text in enumerate(row):
             item = QTableWidgetItem(text)
-            if c and text[:1] in "-0123456789":
+            if c and text[:1] in "+-0123456789":
                 item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
             table.setItem(r, c, item)
     return table

@@ -9,7 +9,6 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QTableWidget,
-    QTableWidgetItem,
     QTabWidget,
     QVBoxLayout,
     QWidget,
@@ -18,6 +17,7 @@ from PySide6.QtWidgets import (
 from charts import numbers
 from engine import Analysis
 from gui.chart_canvas import ChartCanvas
+from gui.result_cell import result_cell
 
 PATHS_TAB = "Paths"
 
@@ -84,13 +84,7 @@ class PathsPanel(QWidget):
         self.table.setRowCount(len(rows))
         for r, row in enumerate(rows):
             for c, text in enumerate(row):
-                cell = QTableWidgetItem(text)
-                if c == 0:
-                    cell.setToolTip(text)
-                if c:
-                    cell.setTextAlignment(
-                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
-                    )
+                cell = result_cell(text, c)
                 if r >= len(rows) - 2:
                     font = cell.font()
                     font.setBold(True)
