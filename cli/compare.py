@@ -81,7 +81,7 @@ def print_comparison(result, unit: str, out: TextIO) -> None:
         print(
             f"{numbers.level(r.level):>6} {amount(r.before):>14} {amount(r.after):>14}"
             f" {amount(r.difference, sign=True):>14} {amount(r.contingency_before):>11}"
-            f" → {amount(r.contingency_after):<11}",
+            f" → {amount(r.contingency_after)}",
             file=out,
         )
     b, a = result.before_allocation.base_confidence, result.after_allocation.base_confidence
