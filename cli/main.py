@@ -15,7 +15,7 @@ from charts.numbers import count
 from cli.allocation_text import add_budget_option, parse_budgets, print_allocation
 from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
-from engine.allocation import allocate
+from engine.allocation import allocate, shares_add_up
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
 GUIDE_POINTER = (
@@ -213,7 +213,7 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     settings = settings_for(args, estimate)
     budgets = parse_budgets(args.budget)
     analysis = analyze(estimate, **settings.analyze_kwargs())
-    allocation = allocate(estimate, analysis, budgets=budgets)
+    allocation = allocate(estimate, analysis, budgets=budgets) if shares_add_up(analysis) else None
     if args.output:
         from reports import write_report
 

@@ -20,7 +20,7 @@ from PySide6.QtWidgets import (
 
 from charts import numbers
 from engine import Analysis, Estimate
-from engine.allocation import Allocation
+from engine.allocation import NOT_A_SUM, Allocation, shares_add_up
 from engine.allocation.confidence import confidence_of
 from gui.allocation_worker import AllocationWorker
 from gui.chart_canvas import ChartCanvas
@@ -137,8 +137,22 @@ class AllocationPanel(QWidget):
     def compute(self, estimate: Estimate, analysis: Analysis, unit: str = "") -> None:
         """Start the allocation of a new analysis; the old figures stay until it arrives."""
         self.analysis, self.unit = analysis, unit
+        if not shares_add_up(analysis):
+            self._no_shares(analysis)
+            return
         self.status.setText("Allocating the contingency…")
         self.worker.request(estimate, analysis)
+        self._show_budget()
+
+    def _no_shares(self, analysis: Analysis) -> None:
+        """A schedule's finish: no shares, but its base estimate's chance and the budget."""
+        self.clear(NOT_A_SUM)
+        self.analysis = analysis
+        base = confidence_of(analysis.total, analysis.base_estimate, analysis.base_estimate, "base")
+        self.base_said.setText(
+            f"Chance of the base estimate ({self._money(base.amount)}): "
+            f"{numbers.percent(base.probability)}."
+        )
         self._show_budget()
 
     def clear(self, message: str) -> None:
