@@ -8,7 +8,9 @@ from collections.abc import Sequence
 from typing import TextIO
 
 from charts import numbers
-from engine.allocation import Allocation
+from engine import Analysis
+from engine.allocation import NOT_A_SUM, Allocation
+from engine.allocation.confidence import confidence_of
 
 
 def add_budget_option(parser: argparse.ArgumentParser) -> None:
@@ -32,6 +34,20 @@ def parse_budgets(texts: Sequence[str] | None) -> list[float]:
         except CellError as bad:
             raise UsageProblem(f"--budget {text!r}: {bad.message} Fix: {bad.fix}") from None
     return amounts
+
+
+def print_schedule_budgets(analysis: Analysis, budgets: Sequence[float], unit: str, out: TextIO):
+    """A schedule is not shared out (engine.allocation.NOT_A_SUM), but the budgets typed
+    still get their chance: nothing the user asked for is dropped silently."""
+    decimals = numbers.decimals_for([analysis.base_estimate])
+    for amount in budgets:
+        said = confidence_of(analysis.total, amount, analysis.base_estimate, "budget")
+        print(
+            f"chance the finish stays within the budget {numbers.money(amount, unit, decimals)}:"
+            f" {numbers.percent(said.probability)}",
+            file=out,
+        )
+    print(NOT_A_SUM, file=out)
 
 
 def print_allocation(allocation: Allocation, unit: str, out: TextIO) -> None:

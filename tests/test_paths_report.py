@@ -79,3 +79,13 @@ def test_cli_report_json_carries_the_paths(tmp_path: Path) -> None:
     assert len(paths["paths"]) == 4
     assert sum(p["criticality"] for p in paths["paths"]) == pytest.approx(1.0)
     assert all(b > 0 for b in paths["merge_bias"])
+
+
+def test_a_budget_on_a_schedule_gets_its_chance(capsys) -> None:
+    from cli.main import main
+    from engine.allocation import NOT_A_SUM
+
+    assert main(["report", str(DEMO), "--budget", "120", "--seed", "3"]) == 0
+    printed = capsys.readouterr().out
+    assert "chance the finish stays within the budget 120.0" in printed
+    assert NOT_A_SUM in printed
