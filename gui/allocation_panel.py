@@ -147,6 +147,7 @@ class AllocationPanel(QWidget):
     def _no_shares(self, analysis: Analysis) -> None:
         """A schedule's finish: no shares, but its base estimate's chance and the budget."""
         self.clear(NOT_A_SUM)
+        self.chart.show_message("No shares for a schedule of parallel paths (see above).")
         self.analysis = analysis
         base = confidence_of(analysis.total, analysis.base_estimate, analysis.base_estimate, "base")
         self.base_said.setText(
