@@ -6,13 +6,16 @@ from __future__ import annotations
 
 import numpy as np
 from matplotlib.axes import Axes
+from matplotlib.ticker import MaxNLocator
 
+from charts import numbers
 from charts.style import (
     FONT_SIZE,
     HISTOGRAM_FILL,
     NORMAL,
     TOTAL,
-    display_text,
+    elide_middle,
+    legend_above,
     money_axis,
     style_axes,
 )
@@ -71,18 +74,16 @@ def draw_allocation(
             label="Naive (own percentile, scaled)",
             gid="naive",
         )
-    ax.set_yticks(y, [_short(n) for n in names], fontsize=FONT_SIZE)
+    ax.set_yticks(y, [elide_middle(n, LABEL_CHARS) for n in names], fontsize=FONT_SIZE)
     ax.axvline(0, color="#4b5563", lw=0.8)
-    style_axes(ax, f"Contingency at P{row.level:g} by {by}")
+    every = len(allocation_bars(allocation, level, by, top=len(allocation.names))[0])
+    largest = "" if every <= len(names) else f" (the {len(names)} largest)"
+    style_axes(ax, f"Contingency at {numbers.level(row.level)} by {by}{largest}")
     ax.grid(False, axis="y")
     money_axis(ax.xaxis)
+    ax.xaxis.set_major_locator(MaxNLocator(nbins=4))  # the tab is often narrow at 1280x800
     ax.set_xlabel(
         f"Share of the contingency ({unit})" if unit else "Share of the contingency",
         fontsize=FONT_SIZE,
     )
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
-
-
-def _short(name: str) -> str:
-    name = display_text(name)
-    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"
+    legend_above(ax)

@@ -12,12 +12,15 @@ from charts.style import (
     REFERENCE,
     TOTAL,
     axis_label,
-    display_text,
+    elide_middle,
+    legend_above,
     money_axis,
     style_axes,
 )
 from charts.total import SHOWN
 from engine.comparison import Comparison
+
+TITLE_CHARS = 40  # each estimate's title in the legend: two entries on one row
 
 
 def draw_before_after(ax: Axes, comparison: Comparison, unit: str = "") -> None:
@@ -30,7 +33,7 @@ def draw_before_after(ax: Axes, comparison: Comparison, unit: str = "") -> None:
         (line,) = ax.plot(
             analysis.total.ppf(q), 100 * q, color=look.color, ls=look.linestyle, lw=look.linewidth
         )
-        line.set(label=f"{gid.capitalize()}: {display_text(title)}", gid=gid)
+        line.set(label=f"{gid.capitalize()}: {elide_middle(title, TITLE_CHARS)}", gid=gid)
         base = analysis.base_estimate
         ax.plot(
             [base],
@@ -49,4 +52,4 @@ def draw_before_after(ax: Axes, comparison: Comparison, unit: str = "") -> None:
     ax.set_xlabel(axis_label("Total", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Confidence level (%)", fontsize=FONT_SIZE)
     ax.set_ylim(0, 100)
-    ax.legend(fontsize=FONT_SIZE, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none")
+    legend_above(ax)

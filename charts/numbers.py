@@ -31,13 +31,14 @@ def decimals_for(values: Iterable[float | None]) -> int:
     return max(0, min(MAX_DECIMALS, 3 - math.floor(math.log10(largest))))
 
 
-def money(x: float | None, unit: str = "", decimals: int = 0) -> str:
-    """'14,400,354 EUR'; empty for a missing value."""
+def money(x: float | None, unit: str = "", decimals: int = 0, sign: bool = False) -> str:
+    """'14,400,354 EUR'; `sign` for changes ('+1,200'); empty for a missing value."""
     if x is None:
         return ""
     if not math.isfinite(x):
         return "unbounded" if x > 0 else "-unbounded"
-    text = f"{_rounded(x, decimals):,.{decimals}f}"
+    value = _rounded(x, decimals)
+    text = f"{value:+,.{decimals}f}" if sign and value else f"{value:,.{decimals}f}"
     return f"{text} {unit}" if unit else text
 
 

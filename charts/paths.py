@@ -7,6 +7,7 @@ import numpy as np
 from matplotlib.axes import Axes
 from scipy import special
 
+from charts import numbers
 from charts.style import (
     FONT_SIZE,
     HISTOGRAM_FILL,
@@ -15,7 +16,7 @@ from charts.style import (
     TEXT,
     TOTAL,
     axis_label,
-    display_text,
+    elide_middle,
     money_axis,
     style_axes,
 )
@@ -44,11 +45,14 @@ def draw_path_s_curves(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     for k, (row, total) in enumerate(zip(section.rows, section.path_totals, strict=True)):
         color, dashes = PATH_LINES[k % len(PATH_LINES)]
         (line,) = ax.plot(total.ppf(q), 100 * q, color=color, ls=dashes, lw=1.2)
-        line.set(label=f"Path {_short(row.name)}", gid=f"path-{k}")
+        line.set(label=elide_middle(row.name, LABEL_CHARS), gid=f"path-{k}")
     longest = next(r for r in section.rows if r.longest_mean)
     normal = longest.mean + longest.sd * special.ndtri(q)
     (line,) = ax.plot(normal, 100 * q, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
-    line.set(label=f"Normal shortcut, longest path ({_short(longest.name)})", gid="normal")
+    line.set(
+        label=f"Normal shortcut ({elide_middle(longest.name, LABEL_CHARS)})",
+        gid="normal",
+    )
     (line,) = ax.plot(
         analysis.total.ppf(q), 100 * q, color=TOTAL.color, ls=TOTAL.linestyle, lw=TOTAL.linewidth
     )
@@ -58,7 +62,7 @@ def draw_path_s_curves(ax: Axes, analysis: Analysis, unit: str = "") -> None:
         ax.plot([value], [level], marker=TOTAL.marker, ms=5, color=TOTAL.color, ls="none")
         ax.plot([short], [level], marker=NORMAL.marker, ms=4.5, mfc="white", color=NORMAL.color)
         ax.annotate(
-            f"P{level:g}",
+            numbers.level(level),
             (value, level),
             xytext=(4, -9),
             textcoords="offset points",
@@ -70,8 +74,15 @@ def draw_path_s_curves(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     ax.set_xlabel(axis_label("Duration", unit), fontsize=FONT_SIZE)
     ax.set_ylabel("Confidence level (%)", fontsize=FONT_SIZE)
     ax.set_ylim(0, 100)
+    # Beside the plot, not above: with a line a path the legend above would take most of
+    # the height of the window's chart; beside it, it covers nothing and the curves keep room.
     ax.legend(
-        fontsize=FONT_SIZE - 0.5, loc="lower right", frameon=True, framealpha=0.9, edgecolor="none"
+        loc="center left",
+        bbox_to_anchor=(1.01, 0.5),
+        fontsize=FONT_SIZE - 0.5,
+        frameon=False,
+        handlelength=1.8,
+        borderaxespad=0.2,
     )
 
 
@@ -97,7 +108,7 @@ def draw_criticality(ax: Axes, analysis: Analysis) -> None:
     )
     for bar, share in zip(bars, shares, strict=True):
         ax.annotate(
-            f"{share:.1f}%",
+            numbers.percent(share / 100),
             (bar.get_width(), bar.get_y() + bar.get_height() / 2),
             xytext=(4, 0),
             textcoords="offset points",
@@ -108,7 +119,7 @@ def draw_criticality(ax: Axes, analysis: Analysis) -> None:
     # Names above their bars, not as tick labels: the chart often sits in a narrow pane.
     for bar, r in zip(bars, rows, strict=True):
         ax.annotate(
-            _short(r.name) + (" (longest mean)" if r.longest_mean else ""),
+            elide_middle(r.name, LABEL_CHARS) + (" (longest mean)" if r.longest_mean else ""),
             (0, bar.get_y() + bar.get_height()),
             xytext=(1, 2),
             textcoords="offset points",
@@ -123,8 +134,3 @@ def draw_criticality(ax: Axes, analysis: Analysis) -> None:
     ax.grid(False, axis="y")
     ax.set_xlim(0, max(100.0, float(shares.max()) * 1.15))
     ax.set_xlabel("Latest path (% of outcomes)", fontsize=FONT_SIZE)
-
-
-def _short(name: str) -> str:
-    name = display_text(name)
-    return name if len(name) <= LABEL_CHARS else name[: LABEL_CHARS - 1] + "…"

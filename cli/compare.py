@@ -64,6 +64,7 @@ def compare_command(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
 
 
 def print_comparison(result, unit: str, out: TextIO) -> None:
+    from charts import numbers
     from reports.caution import CAUTION
 
     print(result.summary, file=out)
@@ -71,15 +72,22 @@ def print_comparison(result, unit: str, out: TextIO) -> None:
         f"{'level':>6} {'before':>14} {'after':>14} {'difference':>14} {'contingency':>24}",
         file=out,
     )
+    decimals = numbers.decimals_for(v for r in result.levels for v in (r.before, r.after))
+
+    def amount(x: float, sign: bool = False) -> str:
+        return numbers.money(x, decimals=decimals, sign=sign)
+
     for r in result.levels:
         print(
-            f"{'P' + format(r.level, 'g'):>6} {r.before:>14,.0f} {r.after:>14,.0f}"
-            f" {r.difference:>14,.0f} {r.contingency_before:>11,.0f} -> {r.contingency_after:<11,.0f}",
+            f"{numbers.level(r.level):>6} {amount(r.before):>14} {amount(r.after):>14}"
+            f" {amount(r.difference, sign=True):>14} {amount(r.contingency_before):>11}"
+            f" → {amount(r.contingency_after)}",
             file=out,
         )
     b, a = result.before_allocation.base_confidence, result.after_allocation.base_confidence
     print(
-        f"chance of the base estimate: {100 * b.probability:.1f}% -> {100 * a.probability:.1f}%",
+        f"chance of the base estimate: {numbers.percent(b.probability)} → "
+        f"{numbers.percent(a.probability)}",
         file=out,
     )
     for change in result.changes:

@@ -12,10 +12,15 @@ from pathlib import Path
 from typing import TextIO
 
 from charts.numbers import count
-from cli.allocation_text import add_budget_option, parse_budgets, print_allocation
+from cli.allocation_text import (
+    add_budget_option,
+    parse_budgets,
+    print_allocation,
+    print_schedule_budgets,
+)
 from cli.compare import add_compare_parser, compare_command
 from engine import Estimate, InputError, Settings, analyze
-from engine.allocation import allocate
+from engine.allocation import allocate, shares_add_up
 from engine.settings_check import settings_problems
 
 OK, INTERNAL_ERROR, INPUT_PROBLEM = 0, 1, 2
@@ -234,7 +239,10 @@ def report(args: argparse.Namespace, out: TextIO, err: TextIO) -> int:
     if unusable:
         raise InputError(unusable)
     analysis = analyze(estimate, **settings.analyze_kwargs())
-    allocation = allocate(estimate, analysis, budgets=budgets)
+    allocation = allocate(estimate, analysis, budgets=budgets) if shares_add_up(analysis) else None
+    if allocation is None and budgets:
+        unit = settings.unit or estimate.unit
+        print_schedule_budgets(analysis, budgets, unit, err if args.json else out)
     if args.output:
         from reports import write_report
 

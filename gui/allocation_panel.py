@@ -4,7 +4,7 @@ the base estimate, and the confidence of a budget the user types."""
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QEventLoop, Qt, QTimer
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -14,17 +14,21 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QSplitter,
     QTableWidget,
-    QTableWidgetItem,
     QVBoxLayout,
     QWidget,
 )
 
+from charts import numbers
 from engine import Analysis, Estimate
-from engine.allocation import Allocation
+from engine.allocation import NOT_A_SUM, Allocation, shares_add_up
 from engine.allocation.confidence import confidence_of
 from gui.allocation_worker import AllocationWorker
 from gui.chart_canvas import ChartCanvas
+from gui.result_cell import result_cell
 
+NARROW = 760  # px: a narrower tab puts the chart under the table, not beside it
+CHART_FRAME_PX = 110  # title, legend and axis of the allocation chart
+BAR_PAIR_PX = 18  # one name's pair of bars, legible
 HEADERS = ["Name", "Share", "% of contingency", "Naive share", "Naive %", "Standard error"]
 
 
@@ -45,8 +49,10 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         naive = [None] * len(names) if row.naive is None else list(row.naive)
         errors = [None] * len(names) if row.standard_errors is None else list(row.standard_errors)
     if by == "risk event":  # the ranking's figures beside each event's name
+        decimals = numbers.decimals_for([allocation.base_confidence.amount])
         said = {
-            r.name: f"{r.name}  (p {100 * r.probability:g}%, expected {r.expected_value:,.0f})"
+            r.name: f"{r.name}  (chance {numbers.probability(r.probability)}, "
+            f"expected {numbers.money(r.expected_value, decimals=decimals)})"
             for r in allocation.risk_events
         }
         kept = [k for k, n in enumerate(names) if n in said]
@@ -57,14 +63,6 @@ def allocation_rows(allocation: Allocation, level_index: int, by: str) -> list[t
         for n, s, v, e in zip(names, shares, naive, errors, strict=True)
     ]
     return sorted(out, key=lambda r: -abs(r[1]))
-
-
-def _money(x: float | None) -> str:
-    return "" if x is None else f"{x:,.0f}"
-
-
-def _percent(x: float | None) -> str:
-    return "" if x is None else f"{100 * x:.1f}%"
 
 
 class AllocationPanel(QWidget):
@@ -91,6 +89,9 @@ class AllocationPanel(QWidget):
         self.table.setHorizontalHeaderLabels(HEADERS)
         self.table.verticalHeader().setVisible(False)
         self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setWordWrap(False)
+        self.table.verticalHeader().setDefaultSectionSize(22)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Interactive)
         header.resizeSection(0, 170)
@@ -106,7 +107,7 @@ class AllocationPanel(QWidget):
         controls.addWidget(QLabel("Budget"))
         controls.addWidget(self.budget)
         controls.addWidget(self.budget_said, 1)
-        split = QSplitter(Qt.Orientation.Horizontal)
+        self.split = split = QSplitter(Qt.Orientation.Horizontal)
         split.addWidget(self.table)
         split.addWidget(self.chart)
         split.setSizes([560, 440])
@@ -117,15 +118,42 @@ class AllocationPanel(QWidget):
         layout.addWidget(self.status)
         layout.addWidget(split, 1)
         layout.addWidget(self.note)
+        self._chart_due = False  # figures shown whose chart is not drawn yet
         self.level.currentIndexChanged.connect(self._refresh)
         self.by.currentIndexChanged.connect(self._refresh)
         self.budget.textChanged.connect(self._show_budget)
 
+    def resizeEvent(self, event) -> None:
+        """Beside each other when there is room; at 1280x800 the tab is about 440 px wide,
+        where a chart beside the table has no room for its bars."""
+        super().resizeEvent(event)
+        narrow = event.size().width() < NARROW
+        wanted = Qt.Orientation.Vertical if narrow else Qt.Orientation.Horizontal
+        if self.split.orientation() != wanted:
+            self.split.setOrientation(wanted)
+            self.split.setSizes([1, 1])
+            self._refresh()  # the chart's height decides how many bars it shows
+
     def compute(self, estimate: Estimate, analysis: Analysis, unit: str = "") -> None:
         """Start the allocation of a new analysis; the old figures stay until it arrives."""
         self.analysis, self.unit = analysis, unit
+        if not shares_add_up(analysis):
+            self._no_shares(analysis)
+            return
         self.status.setText("Allocating the contingency…")
         self.worker.request(estimate, analysis)
+        self._show_budget()
+
+    def _no_shares(self, analysis: Analysis) -> None:
+        """A schedule's finish: no shares, but its base estimate's chance and the budget."""
+        self.clear(NOT_A_SUM)
+        self.chart.show_message("No shares for a schedule of parallel paths (see above).")
+        self.analysis = analysis
+        base = confidence_of(analysis.total, analysis.base_estimate, analysis.base_estimate, "base")
+        self.base_said.setText(
+            f"Chance of the base estimate ({self._money(base.amount)}): "
+            f"{numbers.percent(base.probability)}."
+        )
         self._show_budget()
 
     def clear(self, message: str) -> None:
@@ -147,6 +175,19 @@ class AllocationPanel(QWidget):
             return None
         return shown
 
+    def allocation_when_ready(self, analysis: Analysis) -> Allocation | None:
+        """`allocation_for`, after waiting for a running allocation of this analysis: the
+        report then need not allocate again on the GUI thread. The window keeps responding
+        while it waits (a local event loop), and a newer result ends the wait."""
+        if self.worker.busy and self.analysis is analysis:
+            loop = QEventLoop()
+            poll = QTimer(interval=50)
+            poll.timeout.connect(lambda: None if self.worker.busy else loop.quit())
+            poll.start()
+            loop.exec()
+            poll.stop()
+        return self.allocation_for(analysis)
+
     def show_allocation(self, allocation: Allocation) -> None:
         self.allocation = allocation
         chosen = self.level.currentText()
@@ -157,11 +198,12 @@ class AllocationPanel(QWidget):
         self.level.setCurrentIndex(index if index >= 0 else len(allocation.levels) - 1)
         self.level.blockSignals(False)
         base = allocation.base_confidence
-        money = f" {self.unit}" if self.unit else ""
+        how = "exact" if allocation.method == "exact" else "from the trials near the level"
         self.base_said.setText(
-            f"Chance of the base estimate ({base.amount:,.0f}{money}): "
-            f"{100 * base.probability:.1f}%. Shares: E[item | total at the level] less the "
-            f"item's base value, {'exact' if allocation.method == 'exact' else 'from the trials near the level'}."
+            f"Chance of the base estimate ({self._money(base.amount)}): "
+            f"{numbers.percent(base.probability)}. Each share is what the item is expected to "
+            f"cost when the total is at the level, less its base value ({how}; Euler "
+            "allocation by conditional expectation)."
         )
         self.status.setText("")
         self._refresh()
@@ -173,30 +215,41 @@ class AllocationPanel(QWidget):
         j = self.level.currentIndex()
         by = ("group", "item", "risk event")[self.by.currentIndex()]
         rows = allocation_rows(allocation, j, by)
+        decimals = numbers.decimals_for([allocation.base_confidence.amount])  # the total's
         self.table.setRowCount(len(rows))
         for r, row in enumerate(rows):
             cells = (
                 row[0],
-                _money(row[1]),
-                _percent(row[2]),
-                _money(row[3]),
-                _percent(row[4]),
-                _money(row[5]),
+                numbers.money(row[1], decimals=decimals),
+                numbers.percent(row[2]),
+                numbers.money(row[3], decimals=decimals),
+                numbers.percent(row[4]),
+                numbers.money(row[5], decimals=decimals),
             )
             for c, text in enumerate(cells):
-                item = QTableWidgetItem(text)
-                if c:
-                    item.setTextAlignment(
-                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
-                    )
-                self.table.setItem(r, c, item)
+                self.table.setItem(r, c, result_cell(text, c))
         self.table.setColumnHidden(5, allocation.method == "exact")
         self.note.setText(allocation.levels[j].note)
+        self._chart_due = True
+        if self.isVisible():
+            self.draw_pending()
+
+    def draw_pending(self) -> None:
+        """Draw the chart of the figures shown, once: not while the tab is hidden."""
+        allocation = self.allocation
+        if not self._chart_due or allocation is None or self.level.currentIndex() < 0:
+            return
         from charts.allocation import draw_allocation
 
-        self.chart.show_chart(
-            draw_allocation, allocation, allocation.levels[j].level, by, self.unit
-        )
+        self._chart_due = False
+        level = allocation.levels[self.level.currentIndex()].level
+        by = ("group", "item", "risk event")[self.by.currentIndex()]
+        self.chart.show_chart(draw_allocation, allocation, level, by, self.unit, self._bars())
+
+    def _bars(self) -> int:
+        """As many names as the chart's height keeps legible (a pair of bars each), 12 at most."""
+        room = self.chart.height() - CHART_FRAME_PX
+        return max(3, min(12, room // BAR_PAIR_PX))
 
     def _show_budget(self) -> None:
         text = self.budget.text().strip()
@@ -211,7 +264,15 @@ class AllocationPanel(QWidget):
             self.budget_said.setText(f"{bad.message} {bad.fix}")
             return
         said = confidence_of(self.analysis.total, amount, self.analysis.base_estimate, "budget")
-        error = "" if said.standard_error is None else f" ± {100 * said.standard_error:.2f}%"
-        self.budget_said.setText(
-            f"confidence {100 * said.probability:.1f}%{error}; contingency {said.contingency:,.0f}"
+        error = (
+            "" if said.standard_error is None else f" ± {numbers.percent(said.standard_error, 2)}"
         )
+        self.budget_said.setText(
+            f"Chance of staying within it: {numbers.percent(said.probability)}{error}; "
+            f"contingency {self._money(said.contingency)}"
+        )
+
+    def _money(self, x: float) -> str:
+        """An amount in the unit, in the decimals of the total it is part of."""
+        total = self.analysis.total.mean if self.analysis is not None else x
+        return numbers.money(x, self.unit, numbers.decimals_for([total]))

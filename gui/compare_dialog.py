@@ -25,6 +25,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout,
 )
 
+from charts import numbers
 from engine import Cancelled, InputError, analyze
 from engine.allocation import allocate
 from engine.comparison import Comparison, compare
@@ -94,7 +95,7 @@ def _table(headers: list[str], rows: list[list[str]], name: str) -> QTableWidget
     for r, row in enumerate(rows):
         for c, text in enumerate(row):
             item = QTableWidgetItem(text)
-            if c and text[:1] in "-0123456789":
+            if c and text[:1] in "+-0123456789":
                 item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
             table.setItem(r, c, item)
     return table
@@ -155,35 +156,40 @@ class CompareDialog(QDialog):
         self.export_button.setEnabled(True)
         b, a = result.before_allocation.base_confidence, result.after_allocation.base_confidence
         self.summary.setText(
-            f"{result.summary} Chance of the base estimate: {100 * b.probability:.1f}% -> "
-            f"{100 * a.probability:.1f}%."
+            f"{result.summary} Chance of the base estimate: {numbers.percent(b.probability)} → "
+            f"{numbers.percent(a.probability)}."
         )
+        decimals = numbers.decimals_for(v for r in result.levels for v in (r.before, r.after))
+
+        def amount(x: float, sign: bool = False) -> str:
+            return numbers.money(x, decimals=decimals, sign=sign)
+
         levels = [
             [
-                f"P{r.level:g}",
-                f"{r.before:,.0f}",
-                f"{r.after:,.0f}",
-                f"{r.difference:,.0f}",
-                f"{r.contingency_before:,.0f}",
-                f"{r.contingency_after:,.0f}",
-                f"{r.contingency_difference:,.0f}",
+                numbers.level(r.level),
+                amount(r.before),
+                amount(r.after),
+                amount(r.difference, sign=True),
+                amount(r.contingency_before),
+                amount(r.contingency_after),
+                amount(r.contingency_difference, sign=True),
             ]
             for r in result.levels
         ]
         headers = [
             "Level",
-            "Before",
-            "After",
+            "Total before",
+            "Total after",
             "Difference",
             "Contingency before",
             "Contingency after",
-            "Change",
+            "Contingency difference",
         ]
         chart = ChartCanvas(height=3.4)
         chart.show_chart(draw_before_after, result, self.unit)
         top = result.levels[-1].level
         groups = [
-            [g, "" if x is None else f"{x:,.0f}", "" if y is None else f"{y:,.0f}"]
+            [g, numbers.money(x, decimals=decimals), numbers.money(y, decimals=decimals)]
             for g, x, y in result.group_changes(top)
         ]
         changes = [[c.name, c.group, c.kind, c.describe()] for c in result.changes]
@@ -191,7 +197,11 @@ class CompareDialog(QDialog):
         self.tabs.addTab(_table(headers, levels, "compare-levels"), "Levels")
         self.tabs.addTab(
             _table(
-                ["Group", f"P{top:g} share before", f"P{top:g} share after"],
+                [
+                    "Group",
+                    f"{numbers.level(top)} share before",
+                    f"{numbers.level(top)} share after",
+                ],
                 groups,
                 "compare-groups",
             ),

@@ -56,6 +56,10 @@ class DocumentHost(Protocol):
 
     def document_changed(self) -> None: ...
 
+    def report_allocation(self, analysis: Any) -> Any:
+        """The allocation the window computed (or is computing) for this analysis, so a
+        report need not allocate again on the GUI thread; None lets the report allocate."""
+
 
 class Prompts:
     """The questions the document asks and the messages it shows, as modal dialogs."""
@@ -356,6 +360,7 @@ class Document(QObject):
                 outcome.analysis,
                 outcome.settings,
                 source_path=self.path or (Path(self.source) if self.source else None),
+                allocation=self.host.report_allocation(outcome.analysis),
             )
 
         written = self._attempt("The report could not be written", path, write)

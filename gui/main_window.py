@@ -355,6 +355,9 @@ class MainWindow(QMainWindow):
         self.table.select_rows(rows)
         return rows
 
+    def report_allocation(self, analysis):
+        return self.results.allocation.allocation_when_ready(analysis)
+
     # --- recompute ----------------------------------------------------------------------
     def _items_changed(self) -> None:
         self._update_title()

@@ -256,6 +256,10 @@ class ResultsPanel(QWidget):
         self.notice.setVisible(bool(shown))
 
     def _draw_current(self, index: int) -> None:
+        if index == self._paths_index:
+            self.paths.draw_pending()
+        if self.tabs.widget(index) is self.allocation:
+            self.allocation.draw_pending()
         if self.analysis is None or not 0 <= index < len(self.canvases) or not self._stale[index]:
             return
         _, draw, takes_unit = self._charts[index]

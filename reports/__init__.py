@@ -6,7 +6,7 @@ import io
 from pathlib import Path
 
 from engine import Analysis, Estimate, Settings
-from engine.allocation import Allocation, allocate
+from engine.allocation import Allocation, allocate, shares_add_up
 from reports.provenance import provenance
 
 FORMATS = (".xlsx", ".pdf", ".json")
@@ -39,7 +39,9 @@ def write_report(
         )
     refuse_overwriting_inputs(path, [source_path])
     about = provenance(estimate, settings, source_path)
-    if allocation is None:  # where the contingency sits: every report carries it
+    if not shares_add_up(analysis):  # a schedule's finish: shares would not add up
+        allocation = None
+    elif allocation is None:  # where the contingency sits: every report of a sum carries it
         allocation = allocate(estimate, analysis)
     stream = io.BytesIO()
     if suffix == ".xlsx":

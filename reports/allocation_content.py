@@ -4,14 +4,15 @@ each level beside the naive one, and the risk events ranked. Cells stay numbers.
 
 from __future__ import annotations
 
+from charts import numbers
 from engine.allocation import Allocation
 from reports.content import Column, Table, make_table
 
 RULE = (
     "Each item's share of the contingency at a level is what it is expected to cost when the"
-    " total is at that level, less its base value: E[item | total = P_q] - base (conditional"
-    " expectation, the Euler allocation). The shares add up to the contingency. The naive"
-    " column scales each item's own P_q less its base to fit, as a spreadsheet would."
+    " total is at that level, less its base value (the Euler allocation by conditional"
+    " expectation). The shares add up to the contingency. The naive column takes each item's"
+    " own percentile at the level less its base value, scaled to fit, as a spreadsheet would."
 )
 
 
@@ -51,7 +52,7 @@ def _share_columns(
 ) -> list[Column]:
     columns = []
     for j in range(len(allocation.levels)) if shown is None else shown:
-        tag = f"P{allocation.levels[j].level:g}"
+        tag = numbers.level(allocation.levels[j].level)
         columns.append(Column(f"{tag} share", "money", lambda r, j=j: r[key][j]))
         columns.append(Column(f"{tag} naive", "money", lambda r, j=j: r[naive_key][j]))
     return columns
@@ -86,7 +87,11 @@ def group_table(allocation: Allocation, shown: list[int] | None = None) -> Table
     if top.group_errors is not None:
         errors = top.group_errors
         columns.append(
-            Column(f"P{top.level:g} standard error", "money", lambda r: errors.get(r["name"]))
+            Column(
+                f"{numbers.level(top.level)} standard error",
+                "money",
+                lambda r: errors.get(r["name"]),
+            )
         )
     return make_table(columns, records)
 
@@ -135,7 +140,9 @@ def item_table(
         *_share_columns(allocation, "share", "naive", shown),
     ]
     if allocation.method == "simulation":
-        columns.append(Column(f"P{top.level:g} standard error", "money", lambda r: r["se"][-1]))
+        columns.append(
+            Column(f"{numbers.level(top.level)} standard error", "money", lambda r: r["se"][-1])
+        )
     return make_table(columns, records)
 
 
@@ -144,14 +151,16 @@ def risk_table(allocation: Allocation, shown: list[int] | None = None) -> Table:
     levels = levels if shown is None else [levels[j] for j in shown]
     columns = [
         Column("Risk event", "text", lambda r: r.name),
-        Column("Probability", "percent", lambda r: r.probability),
+        Column("Probability", "probability", lambda r: r.probability),
         Column("Impact if it happens (mean)", "money", lambda r: r.impact_mean),
         Column("Expected value", "money", lambda r: r.expected_value),
         Column("Rank by expected value", "number", lambda r: r.rank_by_expected_value),
         Column("Rank by probability", "number", lambda r: r.rank_by_probability),
     ] + [
         Column(
-            f"Share of contingency at P{lv:g}", "percent", lambda r, lv=lv: r.contingency_share[lv]
+            f"Share of contingency at {numbers.level(lv)}",
+            "percent",
+            lambda r, lv=lv: r.contingency_share[lv],
         )
         for lv in levels
     ]

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from matplotlib.axes import Axes
 
+from charts import numbers
 from charts.allocation import draw_allocation
 from engine.allocation import Allocation
 from reports import allocation_content as said
@@ -30,7 +31,7 @@ def chart_block(flow: Flow, inches: float = CHART_INCHES, left: float = 0.12) ->
     if flow.page.room < inches:
         flow.pages.append(Page(flow.paper, flow.footer))
     page = flow.page
-    top = 1 - (page.y + 0.35) / page.height
+    top = 1 - (page.y + 0.6) / page.height  # room for the title and a legend row above
     bottom = 1 - (page.y + inches - 0.45) / page.height
     grid = page.figure.add_gridspec(1, 1, left=left, right=0.95, top=top, bottom=bottom)
     page.y += inches
@@ -59,12 +60,12 @@ def allocation_pages(allocation: Allocation, unit: str, paper: str, footer: str)
     top = allocation.levels[-1].level
     draw_allocation(chart_block(flow, left=0.36), allocation, top, "group", unit)
     more = len(allocation.names) > ITEMS_SHOWN
-    title = "By item" + (f" (the {ITEMS_SHOWN} largest at P{top:g})" if more else "")
+    title = "By item" + (f" (the {ITEMS_SHOWN} largest at {numbers.level(top)})" if more else "")
     items = said.item_table(allocation, limit=ITEMS_SHOWN, shown=shown)
-    titled_table(flow, title, items, 6.2, [2.6, 1.2, 0.9] + [0.8] * (len(items.columns) - 3))
+    titled_table(flow, title, items, 6.2, [3.0, 1.0, 0.9] + [0.8] * (len(items.columns) - 3))
     if allocation.risk_events:
         flow.gap()
         risks = said.risk_table(allocation, shown)
-        widths = [2.6] + [0.8] * (len(risks.columns) - 1)
+        widths = [3.0] + [0.8] * (len(risks.columns) - 1)
         titled_table(flow, "Risk events ranked", risks, 6.2, widths)
     return flow.pages

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from charts import numbers
 from engine.comparison import Comparison
 from reports.content import Column, Table, make_table
 
@@ -46,14 +47,14 @@ def facts_table(comparison: Comparison) -> Table:
 
 
 def _shown(value: float, kind: str) -> str:
-    return f"{100 * value:.1f}%" if kind == "percent" else f"{value:,.0f}"
+    return numbers.percent(value) if kind == "percent" else numbers.count(value)
 
 
 def group_table(comparison: Comparison, level: float) -> Table:
     columns = [
         Column("Group", "text", lambda r: r[0]),
-        Column(f"P{level:g} share before", "money", lambda r: r[1]),
-        Column(f"P{level:g} share after", "money", lambda r: r[2]),
+        Column(f"{numbers.level(level)} share before", "money", lambda r: r[1]),
+        Column(f"{numbers.level(level)} share after", "money", lambda r: r[2]),
         Column(
             "Difference", "money", lambda r: None if r[1] is None or r[2] is None else r[2] - r[1]
         ),

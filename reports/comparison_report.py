@@ -60,7 +60,7 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow = Flow(paper, footer)
     flow.text("Before and after", size=16, weight="bold")
     flow.text(
-        f"{comparison.before_title}  ->  {comparison.after_title}"
+        f"{comparison.before_title}  →  {comparison.after_title}"
         + (f"  (amounts in {unit})" if unit else ""),
         size=11,
     )
@@ -79,7 +79,7 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow.gap()
     changes = said.change_table(comparison)
     if changes.rows:
-        titled_table(flow, "What changed", changes, 6.5, [2.4, 1.2, 0.7, 3.4])
+        titled_table(flow, "What changed", changes, 6.5, [2.2, 1.0, 0.6, 4.0])
     else:
         flow.text("What changed", size=10, weight="bold")
         flow.text("No line item was added, removed or changed.")
@@ -107,14 +107,14 @@ def _write_xlsx(target: BinaryIO, comparison: Comparison, about: dict[str, Any])
     sheet = book.active
     sheet.title = "Before and after"
     put(sheet, 1, 1, "Before and after").font = BOLD
-    put(sheet, 2, 1, f"{comparison.before_title} -> {comparison.after_title}")
-    put(sheet, 3, 1, comparison.summary)
-    row = put_table(sheet, 5, said.level_table(comparison)) + 1
+    put(sheet, 2, 1, CAUTION)  # under the title, as on the report's Summary sheet
+    put(sheet, 3, 1, f"{comparison.before_title} → {comparison.after_title}")
+    put(sheet, 4, 1, comparison.summary)
+    row = put_table(sheet, 6, said.level_table(comparison)) + 1
     row = put_table(sheet, row, said.facts_table(comparison)) + 1
     level = comparison.levels[-1].level
     row = put_table(sheet, row, said.group_table(comparison, level)) + 1
     put_table(sheet, row, said.change_table(comparison))
-    put(sheet, row + len(comparison.changes) + 3, 1, CAUTION)
     sheet.column_dimensions["A"].width = 46
     for col in range(2, 9):
         sheet.column_dimensions[get_column_letter(col)].width = 16

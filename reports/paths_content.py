@@ -4,8 +4,9 @@ sentences around them."""
 
 from __future__ import annotations
 
+from charts import numbers
 from engine import Analysis
-from reports.content import Column, Table, make_table, money_text
+from reports.content import Column, Table, make_table
 
 
 def path_table(analysis: Analysis) -> Table:
@@ -18,7 +19,9 @@ def path_table(analysis: Analysis) -> Table:
         Column("SD", "money", lambda r: r.sd),
     ]
     for k, level in enumerate(section.levels):
-        columns.append(Column(f"P{level:g} of the path", "money", lambda r, k=k: r.values[k]))
+        columns.append(
+            Column(f"{numbers.level(level)} of the path", "money", lambda r, k=k: r.values[k])
+        )
     columns.append(Column("Latest in (criticality)", "percent", lambda r: r.criticality))
     if section.method == "simulation":
         columns.append(Column("Criticality standard error", "percent", lambda r: r.criticality_se))
@@ -38,7 +41,7 @@ def merge_table(analysis: Analysis) -> Table:
             Column("Level", "level", lambda r: r[0]),
             Column("Finish (latest path)", "money", lambda r: r[1]),
             Column(f"Normal shortcut of '{section.longest}'", "money", lambda r: r[2]),
-            Column("Merge bias (finish - shortcut)", "money", lambda r: r[3]),
+            Column("Merge bias (finish less shortcut)", "money", lambda r: r[3]),
             Column("Merge bias %", "percent", lambda r: r[3] / r[2] if r[2] else None),
         ],
         records,
@@ -49,13 +52,14 @@ def path_lines(analysis: Analysis, unit: str = "") -> list[str]:
     """The sentences above the tables."""
     section = analysis.paths
     assert section is not None
+    decimals = numbers.decimals_for([section.finish_mean, *section.finish])
     lines = [
-        f"Each path is the sum of its activities. Method: {section.method}; "
-        f"{analysis.method_reason}.",
-        f"The classic method reads the path with the longest mean, '{section.longest}', alone, "
-        "as a normal curve; the merge bias is how much later the finish is.",
-        f"Mean finish {money_text(section.finish_mean, unit)} against the longest path's mean "
-        f"{money_text(section.longest_mean, unit)}.",
+        "The finish waits for the latest of the paths; each path is the sum of its activities. "
+        f"Method: {section.method}; {analysis.method_reason}.",
+        f"Reading only the path with the longest mean, '{section.longest}', as a normal curve "
+        "misses the merge bias: how much later the finish is.",
+        f"Mean finish {numbers.money(section.finish_mean, unit, decimals)} against the longest "
+        f"path's mean {numbers.money(section.longest_mean, unit, decimals)}.",
     ]
     if section.shared:
         lines.append("Activities on several paths: " + ", ".join(section.shared) + ".")

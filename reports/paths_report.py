@@ -23,9 +23,10 @@ def paths_pages(analysis: Analysis, about: dict[str, Any], paper: str, footer: s
     for line in path_lines(analysis, unit):
         flow.text(line, size=8.5)
     flow.gap()
-    flow.table(merge_table(analysis), size=7.2)
+    flow.table(merge_table(analysis), size=7.2, widths=[0.6, 1.2, 1.2, 1.2, 0.9])
     flow.gap(0.1)
-    flow.table(path_table(analysis), size=6.8)
+    paths = path_table(analysis)
+    flow.table(paths, size=6.8, widths=[2.0] + [1.0] * (len(paths.columns) - 1))
     flow.gap()
     flow.text("Why the finish is later than the longest path", size=10, weight="bold")
     for reason in analysis.paths.reasons:
@@ -39,7 +40,15 @@ def paths_pages(analysis: Analysis, about: dict[str, Any], paper: str, footer: s
     charts.text("Parallel paths: charts", size=14, weight="bold")
     top = 1 - (charts.y + 0.3) / charts.height
     grid = charts.figure.add_gridspec(
-        2, 1, left=0.12, right=0.95, top=top, bottom=0.08, hspace=0.3, height_ratios=[3, 2]
+        # right: room for the S-curves' legend, which stands beside the plot
+        2,
+        1,
+        left=0.12,
+        right=0.74,
+        top=top,
+        bottom=0.08,
+        hspace=0.3,
+        height_ratios=[3, 2],
     )
     draw_path_s_curves(charts.figure.add_subplot(grid[0]), analysis, unit)
     draw_criticality(charts.figure.add_subplot(grid[1]), analysis)

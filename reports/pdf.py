@@ -17,7 +17,7 @@ from matplotlib.text import Text
 from charts import numbers
 from charts.drivers import draw_drivers
 from charts.gap import draw_gap_curve
-from charts.style import TEXT, display_text
+from charts.style import TEXT, display_text, elide_middle
 from charts.total import draw_density, draw_s_curve
 from engine import Analysis, Estimate
 from engine.allocation import Allocation
@@ -40,9 +40,9 @@ CHART_HEIGHT = 4.0  # inches at most: the decision page's S-curve
 
 
 def _fit(text: str, inches: float, size: float) -> str:
-    """Cut text that would spill out of its cell; the workbook keeps it whole."""
-    chars = max(4, int((inches - 0.06) * 72 / (size * 0.55)))
-    return text if len(text) <= chars else text[: chars - 1] + "…"
+    """Shorten text that would spill out of its cell, keeping both ends (the end often says
+    which of several similar items it is); the workbook keeps it whole."""
+    return elide_middle(text, max(4, int((inches - 0.06) * 72 / (size * 0.55))))
 
 
 def cell_text(value: Any, kind: Kind, decimals: int = 0) -> str:

@@ -178,3 +178,16 @@ def test_compare_reads_a_workbook_with_title_block_and_amounts_as_text(tmp_path,
     assert data["items"][0]["fields"]["probability"] == {"before": 0.15, "after": 0.05}
     assert data["risk_exposure"]["before"] == pytest.approx(0.15 * 400_000)
     assert data["risk_exposure"]["after"] == pytest.approx(0.05 * 400_000)
+
+
+def test_changes_read_as_the_window_writes_them() -> None:
+    from engine.comparison.item_changes import item_changes
+
+    before = [
+        LineItem("Pier", "triangular", 1_200_000.0, 1_250_000.0, 1_400_000.0, probability=0.3)
+    ]
+    after = [LineItem("Pier", "triangular", 1_200_000.0, 1_250_000.0, 1_500_000.0, probability=0.1)]
+    (change,) = item_changes(before, after)
+    said = change.describe()
+    assert "1,400,000 → 1,500,000" in said  # never '1.4e+06'
+    assert "probability 30% → 10%" in said

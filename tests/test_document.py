@@ -38,6 +38,9 @@ class Host:
     def document_changed(self) -> None:
         pass
 
+    def report_allocation(self, analysis) -> None:
+        return None  # the report allocates for itself
+
 
 class Answers:
     """Prompts answered by the test; every warning is kept."""

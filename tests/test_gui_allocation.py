@@ -101,7 +101,7 @@ def test_risk_events_view_and_newest_request_wins(make_window, qtbot):
     panel.level.setCurrentIndex(1)  # P90: the flood (15% > 10%) has happened there
     panel.by.setCurrentIndex(2)
     assert panel.table.rowCount() == 1
-    assert panel.table.item(0, 0).text().startswith("Flood  (p 15%, expected 45")
+    assert panel.table.item(0, 0).text().startswith("Flood  (chance 15%, expected 45")
     # the flood carries E[flood | T = P90] - 0: nearly all of its 300
     share = float(panel.table.item(0, 1).text().replace(",", ""))
     assert 250 < share <= 300
@@ -121,3 +121,64 @@ def test_a_failed_analysis_clears_the_allocation(make_window, qtbot):
     window.results.show_problem("row 2, column 'High': the high value is below the low.")
     assert panel.allocation is None and panel.table.rowCount() == 0
     assert "Nothing to allocate" in panel.status.text()
+
+
+def test_export_while_allocating_waits_for_the_worker(make_window, qtbot, tmp_path, monkeypatch):
+    window = make_window()
+    panel = window.results.allocation
+    with qtbot.waitSignal(window.recomputer.finished, timeout=TIMEOUT_MS):
+        window.set_document(two_uniforms(), exact_settings(), None)
+    assert panel.worker.busy  # the allocation was only requested with the result
+
+    def on_the_gui_thread(*args, **kwargs):
+        raise AssertionError("the report allocated on the GUI thread")
+
+    monkeypatch.setattr("reports.allocate", on_the_gui_thread)
+    written = window.document.export_report(tmp_path / "report.json")
+    assert written is not None and panel.allocation is not None
+    assert '"allocation"' in written.read_text(encoding="utf-8")
+
+
+def test_labels_and_amounts_read_as_elsewhere():
+    from charts import numbers
+    from gui.allocation_panel import HEADERS
+
+    assert "Naive share" in HEADERS and "Standard error" in HEADERS
+    assert numbers.money(-0.001, decimals=1) == "0.0"  # never '-0.0'
+    assert numbers.money(1200.0, sign=True) == "+1,200"
+    assert numbers.money(-1200.0, sign=True) == "-1,200"
+
+
+def test_allocation_chart_keeps_both_ends_of_long_names_and_says_when_it_shows_fewer():
+    from matplotlib.figure import Figure
+
+    from charts.allocation import LABEL_CHARS, draw_allocation
+    from engine import analyze
+    from engine.allocation import allocate
+
+    long_name = "Risk: river works window missed, wait a season"
+    items = [
+        LineItem(long_name, "fixed", most_likely=300.0, probability=0.2),
+        *(LineItem(f"Work {k}", "triangular", 90.0, 100.0, 130.0) for k in range(5)),
+    ]
+    estimate = Estimate(items, title="Depot (invented)")
+    allocation = allocate(estimate, analyze(estimate, levels=(50.0, 90.0), method="exact"))
+    ax = Figure().add_subplot()
+    draw_allocation(ax, allocation, 90.0, "item", top=3)
+    labels = [t.get_text() for t in ax.get_yticklabels()]
+    elided = next(t for t in labels if t.startswith("Risk: "))
+    assert "…" in elided and elided.endswith("a season") and len(elided) == LABEL_CHARS
+    assert "(the 3 largest)" in ax.get_title(loc="left") + ax.get_title()
+
+
+def test_allocation_chart_waits_until_the_tab_is_shown(make_window, qtbot):
+    window = make_window()
+    panel = open_and_allocate(window, qtbot, two_uniforms(), exact_settings())
+    tabs = window.results.tabs
+    assert tabs.currentWidget() is not panel and not panel.chart.figure.axes
+    tabs.setCurrentWidget(panel)
+    assert (
+        panel.chart.figure.axes
+        and "Contingency at P80"
+        in panel.chart.figure.axes[0].get_title(loc="left") + panel.chart.figure.axes[0].get_title()
+    )

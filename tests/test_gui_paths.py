@@ -60,3 +60,35 @@ def test_a_cost_estimate_hides_the_tab_and_a_path_cell_makes_a_schedule(make_win
     assert panel.tabs.isTabVisible(panel._paths_index)
     # max of two independent U(0, 100): F(t) = (t / 100)^2, so P50 = 100 * sqrt(0.5)
     assert analysis.levels[0].value == pytest.approx(100 * 0.5**0.5, abs=0.1)
+
+
+def test_paths_charts_are_drawn_only_when_the_tab_is_shown(make_window, qtbot):
+    window = make_window()
+    open_estimate(window, qtbot, four_paths())
+    panel = window.results
+    assert panel.tabs.currentIndex() != panel._paths_index
+    drawn = panel.paths.curves.figure.axes
+    assert not drawn and panel.paths._to_draw is not None  # hidden: nothing drawn yet
+    panel.tabs.setCurrentIndex(panel._paths_index)
+    assert panel.paths._to_draw is None
+    titles = [ax.get_title(loc="left") or ax.get_title() for ax in panel.paths.curves.figure.axes]
+    assert any("S-curves" in t for t in titles)
+    # criticality written as elsewhere: '25.0%', one decimal
+    texts = [t.get_text() for t in panel.paths.criticality.figure.axes[0].texts]
+    assert "25.0%" in texts
+
+
+def test_a_schedule_is_not_shared_out_but_keeps_the_chance_of_its_base(
+    make_window, qtbot, tmp_path
+):
+    from engine.allocation import NOT_A_SUM
+
+    window = make_window()
+    open_estimate(window, qtbot, four_paths())
+    panel = window.results.allocation
+    assert panel.status.text() == NOT_A_SUM and panel.table.rowCount() == 0
+    # base 100 (the most likely values): P(finish <= 100) = 0.5^4 = 6.25% (product of the
+    # paths' CDFs, REFERENCES.md check value)
+    assert "6.2%" in panel.base_said.text() or "6.3%" in panel.base_said.text()
+    written = window.export_report(tmp_path / "schedule.json")
+    assert written is not None and '"allocation"' not in written.read_text(encoding="utf-8")

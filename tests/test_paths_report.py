@@ -49,7 +49,13 @@ def test_pdf_gains_the_paths_pages(demo, tmp_path: Path) -> None:
     with_paths = write_report(tmp_path / "a.pdf", estimate, analysis, settings, source_path=DEMO)
     without = dataclasses.replace(analysis, paths=None)
     plain = write_report(tmp_path / "b.pdf", estimate, without, settings, source_path=DEMO)
-    assert page_count(with_paths.read_bytes()) == page_count(plain.read_bytes()) + 2
+    # A schedule's report has the two paths pages and none on where the contingency sits
+    # (a finish is not the sum of its activities: engine.allocation.shares_add_up).
+    from engine.allocation import allocate
+    from reports.allocation_pdf import allocation_pages
+
+    shares = len(allocation_pages(allocate(estimate, without), "", "a4", ""))
+    assert page_count(with_paths.read_bytes()) == page_count(plain.read_bytes()) - shares + 2
 
 
 def page_count(data: bytes) -> int:
@@ -73,3 +79,13 @@ def test_cli_report_json_carries_the_paths(tmp_path: Path) -> None:
     assert len(paths["paths"]) == 4
     assert sum(p["criticality"] for p in paths["paths"]) == pytest.approx(1.0)
     assert all(b > 0 for b in paths["merge_bias"])
+
+
+def test_a_budget_on_a_schedule_gets_its_chance(capsys) -> None:
+    from cli.main import main
+    from engine.allocation import NOT_A_SUM
+
+    assert main(["report", str(DEMO), "--budget", "120", "--seed", "3"]) == 0
+    printed = capsys.readouterr().out
+    assert "chance the finish stays within the budget 120.0" in printed
+    assert NOT_A_SUM in printed

@@ -106,6 +106,19 @@ class Allocation:
         }
 
 
+NOT_A_SUM = (
+    "The contingency is not shared out among the activities of a schedule of parallel paths: "
+    "the finish is the latest path, not the sum of the activities, so their shares would not "
+    "add up to it. The chance of the base estimate and of a budget still hold."
+)
+
+
+def shares_add_up(analysis: Analysis) -> bool:
+    """Whether the total is the sum of the items, as the Euler shares need (E[sum | T] = T).
+    A schedule's finish is the latest of its paths: there the shares would not add up."""
+    return getattr(analysis, "paths", None) is None
+
+
 def allocate(
     estimate: Estimate,
     analysis: Analysis,

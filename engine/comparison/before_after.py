@@ -138,6 +138,6 @@ def _summary(levels: list[LevelChange], changes: list[ItemChange]) -> str:
     way = "lower" if top.difference < 0 else "higher"
     return (
         f"Items: {said}. At P{top.level:g} the total is {abs(top.difference):,.0f} {way}"
-        f" ({top.before:,.0f} -> {top.after:,.0f}); contingency {top.contingency_before:,.0f}"
-        f" -> {top.contingency_after:,.0f}."
+        f" ({top.before:,.0f} → {top.after:,.0f}); contingency {top.contingency_before:,.0f}"
+        f" → {top.contingency_after:,.0f}."
     )

@@ -43,17 +43,21 @@ class ItemChange:
         if self.kind in ("added", "removed"):
             return self.kind
         parts = [
-            f"{name.replace('_', ' ')} {_said(b)} -> {_said(a)}"
+            f"{name.replace('_', ' ')} {_said(b, name)} → {_said(a, name)}"
             for name, (b, a) in self.fields.items()
         ]
         return "; ".join(parts)
 
 
-def _said(value: Any) -> str:
+def _said(value: Any, name: str = "") -> str:
+    """As the window and the reports write it: a chance as a percentage, an amount whole
+    with separators ('1,250,000', never '1.25e+06')."""
     if value is None:
         return "blank"
+    if isinstance(value, float) and name == "probability":
+        return f"{round(100 * value, 4):g}%"
     if isinstance(value, float):
-        return f"{value:,g}"
+        return f"{value:,.15g}"
     if isinstance(value, tuple):
         return "; ".join(f"{v:g} @ {100 * w:g}%" for v, w in value)
     return str(value)

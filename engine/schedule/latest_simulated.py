@@ -3,7 +3,7 @@ trial draws every activity once, sums each path, and takes the latest path.
 
 The draws are the simulation engine's own (engine.simulation.replicates): independent
 activities one stream per item, drawn once for all replicates; correlated ones paired by
-Iman-Conover within each replicate, the path sums taken as each replicate is observed.
+Iman–Conover within each replicate, the path sums taken as each replicate is observed.
 Criticality is the share of trials in which a path is the latest (a tie split evenly), with
 the batch standard error across replicates, as for the percentiles.
 """

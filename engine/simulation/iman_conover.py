@@ -108,7 +108,7 @@ class ImanConoverPairing:
     def __call__(self, rng: np.random.Generator, items: int, n: int, work: Workspace) -> np.ndarray:
         if n <= items:
             raise ValueError(
-                f"Iman-Conover needs more trials per replicate ({n}) than items ({items})."
+                f"Iman–Conover needs more trials per replicate ({n}) than items ({items})."
             )
         keys = work.get("keys", (items, n), np.uint64)
         s = score_matrix(rng, items, n, keys=keys, out=work.get("s", (items, n), np.float32))
