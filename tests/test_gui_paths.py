@@ -90,5 +90,5 @@ def test_a_schedule_is_not_shared_out_but_keeps_the_chance_of_its_base(
     # base 100 (the most likely values): P(finish <= 100) = 0.5^4 = 6.25% (product of the
     # paths' CDFs, REFERENCES.md check value)
     assert "6.2%" in panel.base_said.text() or "6.3%" in panel.base_said.text()
-    written = window.export_report(tmp_path / "schedule.json")
+    written = window.document.export_report(tmp_path / "schedule.json")
     assert written is not None and '"allocation"' not in written.read_text(encoding="utf-8")
