@@ -83,22 +83,6 @@ class UsableEstimate:
     pairs_left_out: int
 
 
-def snapshot(full: Estimate, unit: str, source: str) -> Estimate:
-    """A copy the worker can read while the user edits on (the window changes `items`,
-    `summary` and the correlation in place)."""
-    correlation = replace(
-        full.correlation, pairs=list(full.correlation.pairs), groups=dict(full.correlation.groups)
-    )
-    return replace(
-        full,
-        items=list(full.items),
-        unit=unit,
-        source=source,
-        summary=dict(full.summary),
-        correlation=correlation,
-    )
-
-
 def usable_estimate(
     full: Estimate,
     checks: ItemChecks,

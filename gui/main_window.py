@@ -31,8 +31,9 @@ from engine import Estimate, Settings
 from gui.compare_dialog import compare_with
 from gui.document import Document, Prompts
 from gui.empty_state import empty_estimate_text
+from gui.estimate_copy import estimate_copy
 from gui.help_menu import add_help_menu
-from gui.item_checks import UsableEstimate, snapshot, usable_estimate
+from gui.item_checks import UsableEstimate, usable_estimate
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
 from gui.item_table import ItemTableView
@@ -430,7 +431,8 @@ class MainWindow(QMainWindow):
 
     def _estimate_snapshot(self) -> Estimate:
         full = self.estimate
-        return snapshot(full, self.settings.unit or full.unit, full.source or self.document.source)
+        unit, source = self.settings.unit or full.unit, full.source or self.document.source
+        return estimate_copy(full, unit, source)
 
     def schedule_recompute(self, now: bool = False) -> None:
         full = self.estimate
