@@ -61,7 +61,9 @@ def _plain_column(texts: list[str]) -> list[float | object | None]:
 
 def _short(row: Mapping[str, str]) -> bool:
     """Only the name and figures are filled in: no column that changes how they are read."""
-    return all(column in _SHORT_COLUMNS or not text.strip() for column, text in row.items())
+    return row.keys() <= _SHORT_COLUMNS or all(
+        column in _SHORT_COLUMNS or not text.strip() for column, text in row.items()
+    )
 
 
 def _value(cell: float | object) -> float | None:
