@@ -2,6 +2,10 @@
 (A, B, A, B) in one process; min and median of each and the ratio.
 
 - paste: selecting N pasted rows as one block of runs against one `select` call per row;
+- paste 100,000 rows: reading them column by column (`fileio.bulk_rows`) against the row
+  reader per row; and the whole paste in the window, until the GUI thread is free again,
+  with the rows' checks in the recompute worker against per-row reading and the checks in
+  the GUI thread (`CHECKED_IN_WINDOW` raised);
 - header search: a CSV with 120,000-character cells above the header, with the 200-character
   cap against no cap (`MAX_HEADER_CHARS` raised);
 - PDF appendix: the compact list of the widest items against ruled table pages for all items
@@ -71,6 +75,57 @@ def bench_paste_selection(rows: int, repeats: int) -> None:
     report(f"select {rows:,} pasted rows", new, old)
 
 
+def _pasted_block(rows: int) -> str:
+    return "Item\tLow\tMost likely\tHigh\n" + "".join(
+        f"Package {k}\t{10 + k % 7}\t12\t{20 + k % 11}\n" for k in range(rows)
+    )
+
+
+def bench_paste_reading(rows: int, repeats: int) -> None:
+    from fileio.bulk_rows import items_from_cell_rows
+    from gui.clipboard_text import tsv_to_cells
+    from gui.item_model import item_from_text
+
+    cells = tsv_to_cells(_pasted_block(rows))
+    new, old = interleaved(
+        lambda: items_from_cell_rows(cells), lambda: [item_from_text(c) for c in cells], repeats
+    )
+    report(f"read {rows:,} pasted rows", new, old)
+
+
+def bench_paste_window(rows: int, repeats: int) -> None:
+    from PySide6.QtWidgets import QApplication
+
+    import gui.item_editor as item_editor
+    import gui.main_window as main_window
+    from gui.item_model import item_from_text
+
+    QApplication.instance() or QApplication([])
+    window = main_window.MainWindow()
+    window.document.edited = lambda: None  # no autosave of the pasted rows between runs
+    text = _pasted_block(rows)
+    bulk, checked_in_window = item_editor.items_from_cell_rows, main_window.CHECKED_IN_WINDOW
+
+    def paste(old: bool) -> Callable[[], None]:
+        def run() -> None:
+            if old:
+                item_editor.items_from_cell_rows = lambda r: [item_from_text(c) for c in r]
+                main_window.CHECKED_IN_WINDOW = 10**9
+            try:
+                assert len(window.table.paste_text(text)) == rows
+            finally:
+                item_editor.items_from_cell_rows = bulk
+                main_window.CHECKED_IN_WINDOW = checked_in_window
+            window.recomputer.cancel()
+            window.recomputer.wait()
+            window.undo_stack.undo()
+
+        return run
+
+    new, old = interleaved(paste(False), paste(True), repeats)
+    report(f"paste {rows:,} rows (GUI thread busy)", new, old)
+
+
 def bench_header_search(repeats: int) -> None:
     import fileio.headers as headers
     import fileio.table as table
@@ -127,5 +182,7 @@ if __name__ == "__main__":
     quick = "--quick" in sys.argv
     repeats = 2 if quick else 3
     bench_paste_selection(5_000 if quick else 20_000, repeats)
+    bench_paste_reading(100_000, repeats)
+    bench_paste_window(100_000, repeats)
     bench_header_search(repeats)
     bench_pdf_appendix(1_000 if quick else 2_000, repeats)

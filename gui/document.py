@@ -12,6 +12,7 @@ from __future__ import annotations
 import os
 import sys
 from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 from typing import Any, Protocol, TypeVar
 
@@ -20,6 +21,8 @@ from PySide6.QtGui import QUndoStack
 from PySide6.QtWidgets import QFileDialog, QMainWindow, QMessageBox, QWidget
 
 from engine import Estimate, Settings
+from gui.background_save import BackgroundSave
+from gui.estimate_copy import estimate_copy
 from gui.recovery import RecoveryStore
 
 ESTIMATE_FILTER = "Estimates (*.rangefold *.xlsx *.xlsm *.csv *.tsv *.txt)"
@@ -158,11 +161,13 @@ class Document(QObject):
         self.source: str = ""  # where the items came from, for the title and the report
         self.settings_dirty = False
         self.remember_recent = True  # off for --screenshot runs: they are not the user's
+        self._saver = BackgroundSave(self)
+        self._saver.failed.connect(self._autosave_failed)
         self._autosave_timer = QTimer(self, interval=AUTOSAVE_MS)
-        self._autosave_timer.timeout.connect(self.autosave)
+        self._autosave_timer.timeout.connect(self.autosave_in_background)
         self._autosave_timer.start()
         self._autosave_soon = QTimer(self, singleShot=True, interval=AUTOSAVE_AFTER_EDIT_MS)
-        self._autosave_soon.timeout.connect(self.autosave)
+        self._autosave_soon.timeout.connect(self.autosave_in_background)
 
     # --- state --------------------------------------------------------------------------
     def is_modified(self) -> bool:
@@ -396,10 +401,23 @@ class Document(QObject):
     def autosave(self) -> None:
         if not self.is_modified():
             return
+        self._saver.wait()  # never two writers of the recovery files
         try:
             self.recovery.save(self.host.estimate, self.host.settings, self.path)
         except Exception as error:  # a background copy: say so, never interrupt the user
-            self.prompts.status(f"Autosave failed: {failure_text(error)}", 8000)
+            self._autosave_failed(error)
+
+    def autosave_in_background(self) -> None:
+        """The timers' autosave: a copy of the estimate written in a worker, so a large
+        estimate never freezes the window."""
+        if not self.is_modified():
+            return
+        estimate = estimate_copy(self.host.estimate)
+        settings, path, recovery = replace(self.host.settings), self.path, self.recovery
+        self._saver.start(lambda: recovery.save(estimate, settings, path))
+
+    def _autosave_failed(self, error: Exception) -> None:
+        self.prompts.status(f"Autosave failed: {failure_text(error)}", 8000)
 
     def offer_recovery(self) -> bool:
         """After a crash: offer the autosaved work back. True when it was restored."""
@@ -427,4 +445,5 @@ class Document(QObject):
         """The window closed cleanly: stop autosaving and drop the recovery copy."""
         self._autosave_timer.stop()
         self._autosave_soon.stop()
+        self._saver.wait()  # a late background write would bring the copy back
         self._attempt("The autosaved copy could not be removed", None, self.recovery.clear)

@@ -14,6 +14,7 @@ from PySide6.QtGui import QUndoStack
 
 from charts.numbers import count
 from engine import Estimate, LineItem
+from fileio.bulk_rows import items_from_cell_rows
 from gui.clipboard_text import items_to_tsv, tsv_to_cells
 from gui.commands import (
     Command,
@@ -108,7 +109,7 @@ class ItemEditor(QObject):
         the fix) only when the block's shape cannot be read at all.
         """
         rows = tsv_to_cells(text)
-        items = [item_from_text(cells) for cells in rows]
+        items = items_from_cell_rows(rows)
         return self.insert_items(items, at, f"paste {count(len(items), 'row')}")
 
     def copy_text(self, rows: Sequence[int]) -> str:

@@ -9,17 +9,14 @@ table quick at ten thousand rows.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QFont, QIcon
 from PySide6.QtWidgets import QApplication, QStyle
 
 from charts import numbers
-from engine import Estimate, LineItem, Problem, build_distribution
-from engine.families.distributions import Distribution
-from engine.validation import ItemInvalid
+from engine import Estimate, LineItem
 from gui.commands import Command, InsertItems, RemoveItems, Reorder, ReplaceItems
+from gui.item_checks import ItemCheck, ItemChecks
 from gui.item_text import (
     EDIT_COLUMNS,
     NUMBER_COLUMNS,
@@ -31,33 +28,6 @@ from gui.item_text import (
 # Amber on light ground, with a warning icon beside the text: told apart without colour.
 INVALID_BACKGROUND = QColor("#fde3a7")
 READ_ONLY_FOREGROUND = QColor("#4a4a4a")
-CACHE_LIMIT = 50_000
-
-
-@dataclass(frozen=True)
-class ItemCheck:
-    """What the table needs to know about one item, computed once."""
-
-    distribution: Distribution | None
-    problems: tuple[Problem, ...] = ()
-    by_column: dict[str, list[str]] = field(default_factory=dict)
-
-
-def check_item(item: LineItem) -> ItemCheck:
-    problems: tuple[Problem, ...] = tuple(item.read_problems)
-    dist = None
-    if not problems:
-        try:
-            dist = build_distribution(item)
-        except ItemInvalid as bad:
-            problems = tuple(bad.problems)
-    by_column: dict[str, list[str]] = {}
-    for p in problems:
-        column = p.column if p.column in EDIT_COLUMNS else "Item"
-        by_column.setdefault(column, []).append(f"{p.message} Fix: {p.fix}")
-    return ItemCheck(dist, problems, by_column)
-
-
 LONG_CELL = 16  # characters past which a cell may be elided, so its tooltip shows it whole
 
 
@@ -71,7 +41,7 @@ class ItemTableModel(QAbstractTableModel):
     def __init__(self, estimate: Estimate | None = None, parent=None):
         super().__init__(parent)
         self._estimate = estimate or Estimate()
-        self._checks: dict[int, tuple[LineItem, ItemCheck]] = {}
+        self._checks = ItemChecks()
         self._warning_icon: QIcon | None = None
         self._decimals: int | None = None  # of the Mean and SD columns, for all rows alike
         self.items_changed.connect(self._forget_decimals)
@@ -102,16 +72,13 @@ class ItemTableModel(QAbstractTableModel):
     def _forget_decimals(self) -> None:
         self._decimals = None
 
+    @property
+    def checks(self) -> ItemChecks:
+        """The items' checks, shared with the recompute worker."""
+        return self._checks
+
     def check(self, row: int) -> ItemCheck:
-        item = self.items[row]
-        cached = self._checks.get(id(item))
-        if cached is not None and cached[0] is item:
-            return cached[1]
-        if len(self._checks) > CACHE_LIMIT:
-            self._checks.clear()
-        result = check_item(item)
-        self._checks[id(item)] = (item, result)
-        return result
+        return self._checks.of(self.items[row])
 
     def invalid_rows(self) -> list[int]:
         return [r for r in range(len(self.items)) if self.check(r).problems]

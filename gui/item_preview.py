@@ -8,7 +8,7 @@ from PySide6.QtWidgets import QFormLayout, QHBoxLayout, QLabel, QWidget
 from charts import numbers
 from engine import LineItem
 from gui.chart_canvas import ChartCanvas
-from gui.item_model import ItemCheck
+from gui.item_checks import ItemCheck
 
 FIGURES = ("Mean", "SD", "P10", "P50", "P90", "Probability")
 

@@ -8,7 +8,6 @@ come from the Recomputer.
 from __future__ import annotations
 
 import os
-from dataclasses import replace
 from pathlib import Path
 
 from PySide6.QtCore import QSettings, QStandardPaths, Qt, Signal
@@ -32,7 +31,9 @@ from engine import Estimate, Settings
 from gui.compare_dialog import compare_with
 from gui.document import Document, Prompts
 from gui.empty_state import empty_estimate_text
+from gui.estimate_copy import estimate_copy
 from gui.help_menu import add_help_menu
+from gui.item_checks import UsableEstimate, usable_estimate
 from gui.item_editor import ItemEditor
 from gui.item_preview import ItemPreview
 from gui.item_table import ItemTableView
@@ -44,6 +45,9 @@ from gui.settings_panel import SettingsPanel
 from gui.undo import SettingsUndoCommand
 
 APP_TITLE = "Rangefold"
+# Rows left unchecked past which their checks run in the recompute worker (about 30 µs
+# each): typing stays synchronous, a large paste or file never freezes the window.
+CHECKED_IN_WINDOW = 1_000
 # Where autosaved work goes; tests and managed installations point it elsewhere.
 RECOVERY_DIR_VARIABLE = "RANGEFOLD_RECOVERY_DIR"
 
@@ -303,6 +307,7 @@ class MainWindow(QMainWindow):
         self.recomputer.finished.connect(self._compute_finished)
         self.recomputer.failed.connect(self._compute_failed)
         self.recomputer.cancelled.connect(self._compute_cancelled)
+        self.recomputer.prepared.connect(self._show_usable)
         self.cancel_button.clicked.connect(self.recomputer.cancel)
         self.editor.correlation_changed.connect(self._correlation_changed)
         self.recomputer.repair_needed.connect(self._repair_needed)
@@ -423,38 +428,40 @@ class MainWindow(QMainWindow):
 
     def analysed_estimate(self) -> tuple[Estimate, int, int]:
         """The estimate made of the valid rows only, and how many rows and correlation
-        pairs were left out.
+        pairs were left out (`gui.item_checks.usable_estimate`)."""
+        usable = usable_estimate(self._estimate_snapshot(), self.model.checks)
+        return usable.estimate, usable.left_out, usable.pairs_left_out
 
-        Correlation pairs naming a left-out row are left out with it (and counted in the
-        notice); a pair naming no row at all stays, so the engine flags the misspelt name."""
+    def _estimate_snapshot(self) -> Estimate:
         full = self.estimate
-        valid = self.model.valid_items()
-        summary = dict(full.summary)
-        left_out = len(full.items) - len(valid)
-        summary["drafts"] = left_out
-        drafts = {i.name.strip().casefold() for i in full.items} - {
-            i.name.strip().casefold() for i in valid
-        }
-        pairs = [
-            p
-            for p in full.correlation.pairs
-            if not {p.item_a.strip().casefold(), p.item_b.strip().casefold()} & drafts
-        ]
-        pairs_left_out = len(full.correlation.pairs) - len(pairs)
-        correlation = replace(full.correlation, pairs=pairs) if pairs_left_out else full.correlation
-        estimate = Estimate(
-            items=valid,
-            title=full.title,
-            unit=self.settings.unit or full.unit,
-            source=full.source or self.document.source,
-            read_problems=[],
-            summary=summary,
-            correlation=correlation,
-        )
-        return estimate, left_out, pairs_left_out
+        unit, source = self.settings.unit or full.unit, full.source or self.document.source
+        return estimate_copy(full, unit, source)
 
     def schedule_recompute(self, now: bool = False) -> None:
-        estimate, left_out, pairs_left_out = self.analysed_estimate()
+        full = self.estimate
+        if full.items and self.model.checks.unchecked(full.items) > CHECKED_IN_WINDOW:
+            # Many new rows (a large paste or file): their checks run in the worker.
+            checks, copy = self.model.checks, self._estimate_snapshot()
+
+            def prepare(cancel, progress) -> tuple[Estimate, UsableEstimate]:
+                usable = usable_estimate(copy, checks, cancel, progress)
+                return usable.estimate, usable
+
+            self.compute_label.setText(f"Checking {numbers.count(len(full.items), 'row')}…")
+            self.recomputer.request(copy, self.settings, prepare)
+        else:
+            usable = usable_estimate(self._estimate_snapshot(), self.model.checks)
+            if not usable.estimate.items:
+                self.recomputer.cancel()
+            if not self._show_usable(usable):
+                return
+            self.recomputer.request(usable.estimate, self.settings)
+        if now:
+            self.recomputer.run_now()
+
+    def _show_usable(self, usable: UsableEstimate) -> bool:
+        """Say which rows are left out; False (and the reason shown) when none is usable."""
+        left_out, pairs_left_out = usable.left_out, usable.pairs_left_out
         pairs = (
             f" with {numbers.count(pairs_left_out, 'correlation pair')} naming them"
             if pairs_left_out
@@ -465,23 +472,19 @@ class MainWindow(QMainWindow):
             "(marked cells; hover for the fix)"
         )
         self.left_out.setVisible(left_out > 0)
-        if not estimate.items:
-            self.recomputer.cancel()
-            self.last_outcome = None
-            if self.estimate.items:
-                self.last_problem = (
-                    "No row can be used yet: add line items or fix the marked cells."
-                )
-                self.results.show_problem(self.last_problem)
-            else:
-                self.last_problem = empty_estimate_text()
-                self.results.show_problem(self.last_problem, chart_message=self.last_problem)
-            self.compute_label.setText("")
-            self.result_shown.emit()
-            return
-        self.recomputer.request(estimate, self.settings)
-        if now:
-            self.recomputer.run_now()
+        if usable.estimate.items:
+            return True
+        self._compute_done()
+        self.last_outcome = None
+        if self.estimate.items:
+            self.last_problem = "No row can be used yet: add line items or fix the marked cells."
+            self.results.show_problem(self.last_problem)
+        else:
+            self.last_problem = empty_estimate_text()
+            self.results.show_problem(self.last_problem, chart_message=self.last_problem)
+        self.compute_label.setText("")
+        self.result_shown.emit()
+        return False
 
     def recompute_now(self) -> None:
         self.schedule_recompute(now=True)

@@ -8,6 +8,7 @@ a result, failure or cancellation reaches the window only if it carries the newe
 from __future__ import annotations
 
 import threading
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, QTimer, Signal
@@ -16,6 +17,11 @@ from engine import Analysis, Cancelled, Estimate, InputError, Settings, analyze
 
 DEBOUNCE_MS = 300
 PROGRESS_STEP = 0.01
+PREPARE_SHARE = 0.2  # of the progress bar, for a request's preparation (checking its rows)
+
+# Called in the worker before the analysis: (cancel, progress) -> (the estimate to analyse,
+# what the window shows of it). Lets the checks of many rows run off the GUI thread.
+Prepare = Callable[[Callable[[], bool], Callable[[float], None]], tuple[Estimate, object]]
 
 
 @dataclass(frozen=True)
@@ -34,15 +40,24 @@ class _JobSignals(QObject):
     failed = Signal(int, str, object)  # message, RepairPreview or None
     cancelled = Signal(int)
     progress = Signal(int, float)
+    prepared = Signal(int, object, bool)  # what prepare found; True when nothing to analyse
 
 
 class _AnalysisJob(QRunnable):
-    def __init__(self, request_id: int, estimate: Estimate, settings: Settings, signals):
+    def __init__(
+        self,
+        request_id: int,
+        estimate: Estimate,
+        settings: Settings,
+        signals,
+        prepare: Prepare | None = None,
+    ):
         super().__init__()
         self.request_id = request_id
         self.estimate = estimate
         self.settings = settings
         self.signals = signals
+        self.prepare = prepare
         self.stop = threading.Event()
         self._reported = -1.0
 
@@ -66,10 +81,19 @@ class _AnalysisJob(QRunnable):
 
     def run(self) -> None:
         try:
+            share = 0.0
+            if self.prepare is not None:
+                share = PREPARE_SHARE
+                self.estimate, shown = self.prepare(
+                    self.stop.is_set, lambda f: self._progress(share * f)
+                )
+                self.signals.prepared.emit(self.request_id, shown, not self.estimate.items)
+                if not self.estimate.items:
+                    return
             analysis = analyze(
                 self.estimate,
                 **self.settings.analyze_kwargs(),
-                progress=self._progress,
+                progress=lambda f: self._progress(share + (1 - share) * f),
                 cancel=self.stop.is_set,
             )
         except Cancelled:
@@ -93,6 +117,9 @@ class Recomputer(QObject):
     repair_needed = Signal(object)
     cancelled = Signal()
     progress = Signal(float)
+    # What a request's preparation found (the window's left-out notice); a request with
+    # nothing to analyse ends with this signal.
+    prepared = Signal(object)
 
     def __init__(self, delay_ms: int = DEBOUNCE_MS, parent: QObject | None = None):
         super().__init__(parent)
@@ -107,7 +134,8 @@ class Recomputer(QObject):
         self._signals.failed.connect(self._on_failed)
         self._signals.cancelled.connect(self._on_cancelled)
         self._signals.progress.connect(self._on_progress)
-        self._pending: tuple[Estimate, Settings] | None = None
+        self._signals.prepared.connect(self._on_prepared)
+        self._pending: tuple[Estimate, Settings, Prepare | None] | None = None
         self._job: _AnalysisJob | None = None
         self.latest_id = 0
         self.dropped = 0  # results that arrived after a newer request: discarded
@@ -116,9 +144,12 @@ class Recomputer(QObject):
     def busy(self) -> bool:
         return self._job is not None or self._timer.isActive()
 
-    def request(self, estimate: Estimate, settings: Settings) -> None:
-        """Ask for a recompute; a burst of requests starts one job after the last."""
-        self._pending = (estimate, settings)
+    def request(
+        self, estimate: Estimate, settings: Settings, prepare: Prepare | None = None
+    ) -> None:
+        """Ask for a recompute; a burst of requests starts one job after the last.
+        With `prepare`, the worker first turns `estimate` into the one to analyse."""
+        self._pending = (estimate, settings, prepare)
         self._timer.start()
 
     def run_now(self) -> int:
@@ -126,12 +157,12 @@ class Recomputer(QObject):
         self._timer.stop()
         if self._pending is None:
             return self.latest_id
-        estimate, settings = self._pending
+        estimate, settings, prepare = self._pending
         self._pending = None
         if self._job is not None:
             self._job.stop.set()
         self.latest_id += 1
-        self._job = _AnalysisJob(self.latest_id, estimate, settings, self._signals)
+        self._job = _AnalysisJob(self.latest_id, estimate, settings, self._signals, prepare)
         self._pool.start(self._job)
         self.started.emit(self.latest_id)
         return self.latest_id
@@ -165,6 +196,13 @@ class Recomputer(QObject):
     def _on_cancelled(self, request_id: int) -> None:
         if self._current(request_id):
             self.cancelled.emit()
+
+    def _on_prepared(self, request_id: int, shown: object, nothing_to_analyse: bool) -> None:
+        if request_id != self.latest_id:
+            return
+        if nothing_to_analyse:
+            self._job = None
+        self.prepared.emit(shown)
 
     def _on_progress(self, request_id: int, fraction: float) -> None:
         if request_id == self.latest_id:

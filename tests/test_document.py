@@ -196,3 +196,40 @@ def test_stored_settings_that_cannot_be_used_are_told_on_opening(qapp, tmp_path)
     assert host.settings.trials == Settings().trials
     (title, message), *_ = answers.warnings
     assert "odd.rangefold" in title and "trials" in message
+
+
+def test_a_timed_autosave_writes_a_copy_in_the_background_and_close_waits_for_it(qapp, tmp_path):
+    """The timers' autosave writes in a worker from a copy: edits made after it started are
+    not in it (the copy is the estimate as it was), and a clean close removes it."""
+    host = Host(Estimate(items=items(), title="Yard"))
+    document = make(qapp, tmp_path, host, Answers())
+    edit(host)
+    document.autosave_in_background()
+    host.estimate.items.append(LineItem("Added after", "uniform", 0.0, None, 1.0))
+    assert document._saver.wait()
+    recovery = document.recovery.find()
+    assert recovery is not None
+    saved, _settings = document.recovery.load(recovery)
+    assert [i.name for i in saved.items] == [i.name for i in items()]
+    document.autosave_in_background()
+    document.closed()
+    assert document.recovery.find() is None
+    assert not document.recovery.project_path.exists()
+
+
+def test_a_failed_background_autosave_is_told(qapp, tmp_path, monkeypatch):
+    told = []
+    answers = Answers()
+    answers.status = lambda text, milliseconds=0: told.append(text)
+    host = Host(Estimate(items=items()))
+    document = make(qapp, tmp_path, host, answers)
+    edit(host)
+
+    def disk_full(*_args):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(document.recovery, "save", disk_full)
+    document.autosave_in_background()
+    assert document._saver.wait()
+    qapp.processEvents()
+    assert told and told[0].startswith("Autosave failed")

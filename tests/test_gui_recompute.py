@@ -90,3 +90,38 @@ def test_input_problems_are_reported_not_raised(recomputer, qtbot):
     with qtbot.waitSignal(recomputer.failed, timeout=TIMEOUT_MS) as failed:
         recomputer.run_now()
     assert "High" in failed.args[0] and "Fix:" in failed.args[0]
+
+
+def test_a_prepared_request_analyses_what_prepare_returns_and_can_be_cancelled(recomputer, qtbot):
+    """`prepare` runs in the worker: its estimate is the one analysed, its finding reaches
+    the GUI thread first, and the cancel flag reaches it (as the rows' checks use it)."""
+    from engine import Cancelled
+
+    exact = Settings(levels=(50.0,), method="exact")
+    threads, found = [], []
+    recomputer.prepared.connect(found.append)
+
+    def prepare(cancel, progress):
+        threads.append(threading.get_ident())
+        progress(1.0)
+        return estimate(300.0), "checked"
+
+    recomputer.request(estimate(100.0), exact, prepare)
+    with qtbot.waitSignal(recomputer.finished, timeout=TIMEOUT_MS) as done:
+        recomputer.run_now()
+    assert found == ["checked"] and threads and threading.get_ident() not in threads
+    assert [i.high for i in done.args[0].estimate.items] == [100.0, 300.0]
+
+    started = threading.Event()
+
+    def slow(cancel, progress):
+        started.set()
+        while not cancel():
+            threading.Event().wait(0.01)
+        raise Cancelled()
+
+    recomputer.request(estimate(100.0), exact, slow)
+    with qtbot.waitSignal(recomputer.cancelled, timeout=TIMEOUT_MS):
+        recomputer.run_now()
+        assert started.wait(10)
+        recomputer.cancel()

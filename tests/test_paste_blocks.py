@@ -56,3 +56,39 @@ def test_plain_numbers_read_the_same_by_the_short_path(text, decimal):
 
     short, full = parse_number(text, decimal=decimal), parse_number(" " + text, decimal=decimal)
     assert str(short) == str(full)  # -0.0 included
+
+
+def test_the_window_keeps_ticking_while_a_hundred_thousand_rows_are_checked(make_window, qtbot):
+    """The rows' checks run in the recompute worker: the GUI thread's timer ticks before the
+    worker says which rows are left out (every 1,000th row has Low above High)."""
+    from PySide6.QtCore import QTimer
+
+    window = make_window()
+    text = "Item\tLow\tMost likely\tHigh\n" + "".join(
+        f"Package {k}\t{30 if k % 1000 == 0 else 10}\t12\t20\n" for k in range(MAX_PASTE_ROWS)
+    )
+    ticks_before_checked, checked = [], []
+    timer = QTimer()
+    timer.setInterval(5)
+    timer.timeout.connect(lambda: None if checked else ticks_before_checked.append(1))
+    window.recomputer.prepared.connect(lambda usable: checked.append(usable))
+    window.table.paste_text(text)
+    timer.start()
+    with qtbot.waitSignal(window.recomputer.prepared, timeout=600_000):
+        pass
+    window.recomputer.cancel()
+    timer.stop()
+    assert ticks_before_checked
+    assert checked[0].left_out == 100 and len(checked[0].estimate.items) == MAX_PASTE_ROWS - 100
+    assert "100 rows left out of the total" in window.left_out.text()
+
+
+def test_many_rows_none_usable_say_so_after_the_worker_checks_them(make_window, qtbot):
+    window = make_window()
+    text = "Item\tLow\tHigh\n" + "".join(f"Bad {k}\t30\t20\n" for k in range(3_000))
+    with qtbot.waitSignal(window.recomputer.prepared, timeout=120_000):
+        window.table.paste_text(text)
+    assert not window.recomputer.busy
+    assert window.last_outcome is None
+    assert window.last_problem.startswith("No row can be used yet")
+    assert "3,000 rows left out" in window.left_out.text()
