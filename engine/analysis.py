@@ -48,7 +48,7 @@ from engine.shortcut.normal import (
     sum_of_item_percentiles,
 )
 from engine.shortcut.verdict import count, dependence_reasons, reasons_for, summary_sentence
-from engine.simulation.factor_pairing import pairing_for
+from engine.simulation.factor_pairing import fewest_per_replicate, pairing_for
 from engine.simulation.replicates import new_seed, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
 from engine.threads import beside
@@ -366,7 +366,7 @@ def simulate_correlated(
             sampling=sampling,
             pairing=pairing,
             observe=stats,
-            min_per_replicate=0 if factored else 2 * len(dists),
+            min_per_replicate=fewest_per_replicate(aims, len(dists)),
             progress=tracker,
         )
         independent = pending.result()

@@ -77,7 +77,7 @@ def test_the_simulated_allocation_conditions_on_the_analysis_own_trials() -> Non
     levels = [r.level for r in analysis.levels]
     rerun = simulated_means(
         dists,
-        analysis.dependence.pearson_used,
+        analysis.dependence,
         [r.value for r in analysis.levels],
         window_edges(analysis.total, levels),
         trials=analysis.trials,
@@ -154,3 +154,33 @@ def test_risk_events_ranked_three_ways() -> None:
         assert r.contingency_share[99.0] == pytest.approx(at99.shares[k] / at99.contingency)
     # the flood, least likely, dominates the far tail
     assert ranked[1].contingency_share[99.0] == max(r.contingency_share[99.0] for r in ranked)
+
+
+def test_block_factor_analyses_are_allocated_on_their_own_trials() -> None:
+    """From FACTOR_ITEMS items a default correlation is induced by block factors, with no
+    matrix kept above MATRIX_ITEMS: the allocation's re-run must use the same pairing and
+    replicate sizes, so it reproduces the analysis's trials and its shares add up."""
+    from engine.dependence.correlation import FACTOR_ITEMS
+
+    n = FACTOR_ITEMS + 20
+    items = [
+        LineItem(f"Item {k}", "triangular", low=90.0, most_likely=100.0, high=130.0 + k)
+        for k in range(n)
+    ]
+    est = Estimate(items=items, correlation=CorrelationSpec(default=0.3))
+    analysis = analyze(est, levels=(50, 80), trials=20_000, seed=4)
+    assert analysis.dependence is not None and analysis.dependence.model is not None
+    dists = [build_distribution(i) for i in items]
+    levels = [r.level for r in analysis.levels]
+    rerun = simulated_means(
+        dists,
+        analysis.dependence,
+        [r.value for r in analysis.levels],
+        window_edges(analysis.total, levels),
+        trials=analysis.trials,
+        seed=analysis.seed,
+        sampling=analysis.sampling,
+    )
+    np.testing.assert_array_equal(rerun.total.by_replicate, analysis.total.by_replicate)
+    for row in allocate(est, analysis).levels:
+        assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)

@@ -147,7 +147,7 @@ def allocate(
         assert analysis.seed is not None and analysis.trials is not None
         found = simulated_means(
             dists,
-            analysis.dependence.pearson_used,
+            analysis.dependence,
             totals,
             window_edges(analysis.total, levels),
             trials=analysis.trials,

@@ -16,10 +16,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from engine.dependence.correlation import Targets
 from engine.exact.totals import SampleTotal
 from engine.families.distributions import Distribution
 from engine.progress import Progress
-from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.factor_pairing import fewest_per_replicate, pairing_for
 from engine.simulation.replicates import simulate
 from engine.threads import PARTS
 
@@ -81,7 +82,7 @@ def local_linear(s0, s1, s2, a, b) -> np.ndarray:
 
 def simulated_means(
     dists: Sequence[Distribution],
-    pearson: np.ndarray,
+    aims: Targets,
     totals: Sequence[float],
     window_edges: tuple[Sequence[float], Sequence[float]],
     *,
@@ -100,9 +101,9 @@ def simulated_means(
         trials=trials,
         seed=seed,
         sampling=sampling,
-        pairing=ImanConoverPairing(pearson),
+        pairing=pairing_for(aims),
         observe=sums,
-        min_per_replicate=2 * len(dists),
+        min_per_replicate=fewest_per_replicate(aims, len(dists)),
         progress=progress,
     )
     s0, s1, s2, a, b, counts = sums.stacked()  # (reps, totals) and (reps, items, totals)

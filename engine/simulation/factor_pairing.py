@@ -63,3 +63,9 @@ def pairing_for(aims: Targets) -> FactorPairing | ImanConoverPairing:
     if aims.model is not None:
         return FactorPairing(aims.model)
     return ImanConoverPairing(aims.pearson_used)
+
+
+def fewest_per_replicate(aims: Targets, items: int) -> int:
+    """Iman–Conover needs more trials in a replicate than items; block factors do not. A
+    re-run (the allocation's) must use the same rule to reproduce the analysis's trials."""
+    return 0 if aims.model is not None else 2 * items
