@@ -21,7 +21,7 @@ from functools import lru_cache
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.lattice import item_lattice
+from engine.exact.family_lattices import part_lattices
 from engine.families.distributions import Continuous, Distribution, Normal, Triangular, Uniform
 
 # Lattices up to this long are transformed directly at the frequencies in use (a matrix
@@ -131,8 +131,10 @@ def gridded_spectra(
     # the span only cuts heavy tails; a power of two of steps lets an analysis of the same
     # items on the same step (another level, a setting changed) reuse the lattices
     span = step * 2 ** math.ceil(math.log2(count))
-    for row, weight, part in plan.gridded:
-        start, masses, tail = _part_lattice(part, step, span)
+    parts = [part for _, _, part in plan.gridded]
+    for (row, weight, _), (start, masses, tail) in zip(
+        plan.gridded, part_lattices(parts, step, span), strict=True
+    ):
         folded += weight * tail
         lattices.append((start - anchors[row], masses))
     lengths = np.array([len(m) for _, m in lattices])
@@ -157,12 +159,6 @@ def gridded_spectra(
         wrapped = np.bincount(where, weights=masses, minlength=count)
         out[i] = np.conj(sp_fft.rfft(wrapped)[:bins])
     return out / spread, folded
-
-
-@lru_cache(maxsize=16384)
-def _part_lattice(part: Continuous, step: float, span: float) -> tuple[int, np.ndarray, float]:
-    """A gridded part's hat masses, kept for the next analysis of the same items."""
-    return item_lattice(part, step, span)
 
 
 @lru_cache(maxsize=64)
