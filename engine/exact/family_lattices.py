@@ -17,6 +17,7 @@ import numpy as np
 
 from engine.exact.grid_plan import part_range
 from engine.exact.lattice import MAX_ITEM_POINTS, item_lattice
+from engine.exact.stacked_parts import stacked
 from engine.families.distributions import Beta, Continuous, Lognormal
 
 PartLattice = tuple[int, np.ndarray, float]  # (first grid index, masses, tail folded in)
@@ -25,24 +26,6 @@ PartLattice = tuple[int, np.ndarray, float]  # (first grid index, masses, tail f
 # level); cleared whole when full.
 CACHE_SIZE = 16384
 _cache: dict[tuple[Continuous, float, float], PartLattice] = {}
-
-
-class _Lognormals(Lognormal):
-    """Lognormals with array parameters: the raw moments by numpy instead of math."""
-
-    def _raw(self, k: int) -> np.ndarray:
-        return np.exp(k * self.mu + 0.5 * k * k * self.sigma**2)
-
-
-def _stacked(parts: Sequence[Continuous], repeats: np.ndarray) -> Continuous:
-    """One instance of the parts' family whose parameters are arrays, one value per grid
-    point (each part's repeated over its points)."""
-    if isinstance(parts[0], Beta):
-        names, family = ("low", "high", "alpha", "beta"), Beta
-    else:
-        names, family = ("mu", "sigma"), _Lognormals
-    columns = {n: np.repeat([getattr(p, n) for p in parts], repeats) for n in names}
-    return family(**columns)
 
 
 def part_lattices(parts: Sequence[Continuous], step: float, span: float) -> list[PartLattice]:
@@ -81,7 +64,7 @@ def _family_lattices(
     first = np.concatenate([[0], np.cumsum(edges)[:-1]])  # each part's first edge, flat
     local = np.arange(int(edges.sum())) - np.repeat(first, edges)
     grid = (np.repeat(k0, edges) + local) * step
-    family = _stacked(parts, edges)
+    family = stacked(parts, edges)
     cdf_side = family.integrated_cdf(grid)
     surv_side = family.integrated_survival(grid)
     # cells j = 0 .. n - 1 of each part (the flat cell index skips each part's last edge)
