@@ -4,10 +4,20 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from scipy import stats
 
 from engine.exact import family_lattices
+from engine.exact.grid_plan import central_spreads
 from engine.exact.lattice import item_lattice
-from engine.families.distributions import Beta, Lognormal, Triangular, pert
+from engine.families.distributions import (
+    Beta,
+    Lognormal,
+    Normal,
+    Occurrence,
+    Triangular,
+    Uniform,
+    pert,
+)
 
 SHAPES = [
     pert(0.0, 1.0, 10.0),
@@ -33,3 +43,30 @@ def test_family_lattices_equal_the_per_item_lattices(step: float) -> None:
     again = family_lattices.part_lattices(SHAPES[::-1], step, span)  # from the cache
     for (s, m, _), (s_1, m_1, _) in zip(again, batched[::-1], strict=True):
         assert s == s_1 and m is m_1
+
+
+def test_central_spreads_of_a_mixed_list_from_scipy() -> None:
+    # min(sd, (P90 - P10) / (2 z_0.9)) of each family from scipy.stats (a continuous item), and
+    # the mixture of that part with a point mass at zero for a risk event: its sd from
+    # E[X^2] - E[X]^2 with the part read as its median and that spread
+    def read(frozen) -> tuple[float, float]:
+        p10, p50, p90 = frozen.ppf([0.1, 0.5, 0.9])
+        return p50, min(frozen.std(), (p90 - p10) / (2 * stats.norm.ppf(0.9)))
+
+    cases = [
+        (Triangular(0.0, 2.0, 3.0), stats.triang(2 / 3, loc=0, scale=3)),
+        (pert(5.0, 5.1, 6.0), stats.beta(*_shape(pert(5.0, 5.1, 6.0)), loc=5, scale=1)),
+        (Uniform(1.0, 4.0), stats.uniform(1, 3)),
+        (Normal(10.0, 2.0), stats.norm(10, 2)),
+        (Lognormal(0.0, 1.5), stats.lognorm(1.5)),  # far tail: the P10-P90 reading wins
+    ]
+    dists = [d for d, _ in cases] + [Occurrence(Triangular(0.0, 2.0, 3.0), 0.3)]
+    expected = [read(frozen)[1] for _, frozen in cases]
+    centre, spread = read(cases[0][1])
+    mean = 0.3 * centre
+    expected.append(np.sqrt(0.3 * (spread**2 + centre**2) - mean**2))
+    np.testing.assert_allclose(central_spreads(dists), expected, rtol=1e-12)
+
+
+def _shape(part: Beta) -> tuple[float, float]:
+    return part.alpha, part.beta
