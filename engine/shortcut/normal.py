@@ -15,6 +15,7 @@ from dataclasses import dataclass, fields
 import numpy as np
 from scipy import special
 
+from engine.exact.item_abs_moments import abs_moments3
 from engine.exact.totals import Cumulants
 from engine.families.distributions import (
     Beta,
@@ -108,5 +109,5 @@ def berry_esseen_bound(dists: Sequence[Distribution], cumulants: Cumulants | Non
     var = cumulants.variance if cumulants is not None else math.fsum(d.variance for d in dists)
     if var <= 0:
         return math.inf
-    rho = math.fsum(d.abs_moment3_about_mean for d in dists if d.variance > 0)
+    rho = math.fsum(abs_moments3([d for d in dists if d.variance > 0]))
     return min(BERRY_ESSEEN_C0 * rho / var**1.5, 1.0)
