@@ -1,6 +1,7 @@
 """Engine benchmark: the whole exact analysis against OpenTURNS, simulation speed, memory, far tails.
 
-Run: .venv/bin/python bench/bench_engine.py   (prints one table)
+Run: .venv/bin/python bench/bench_engine.py [--quick] [--before=DIR]   (prints one table)
+--before=DIR: a checkout of an earlier version, timed at 10,000 items interleaved with this one.
 
 The exact rows time the user-facing call, `analyze(estimate, method="exact", levels=[50, 80,
 90, 95, 99])`, against OpenTURNS building the same sum (LinearCombinationDistribution) and
@@ -13,6 +14,7 @@ from __future__ import annotations
 
 import math
 import statistics
+import subprocess
 import sys
 import time
 import tracemalloc
@@ -148,6 +150,49 @@ def exact_vs_openturns(label: str, estimate: Estimate, repeat: int, reference: b
     )
 
 
+# One first and two warm calls of analyze at 10,000 mixed items, in a fresh process (the
+# per-item caches start empty); prints "first warm warm" in seconds.
+FRESH_RUN = """
+import sys, time
+sys.path.insert(0, "bench")
+from bench_engine import LEVELS, mixed_estimate
+from engine import analyze
+estimate = mixed_estimate(10_000, 10_000)
+times = []
+for _ in range(3):
+    t0 = time.perf_counter()
+    analyze(estimate, method="exact", levels=LEVELS)
+    times.append(time.perf_counter() - t0)
+print(*times)
+"""
+
+
+def ten_thousand_items(runs: int = 3, before: Path | None = None) -> None:
+    """First call (fresh process) and warm call at 10,000 mixed items; with `before` (a
+    checkout of an earlier version, e.g. from `git archive`), interleaved with it."""
+    trees = {"ours": Path(__file__).resolve().parents[1]}
+    if before is not None:
+        trees["before"] = before
+    times: dict[str, list[list[float]]] = {name: [] for name in trees}
+    for _ in range(runs):
+        for name, tree in trees.items():
+            out = subprocess.run(
+                [sys.executable, "-c", FRESH_RUN], cwd=tree, capture_output=True, text=True
+            )
+            times[name].append([float(v) for v in out.stdout.split()])
+    for name, runs_of in times.items():
+        first = [r[0] for r in runs_of]
+        warm = [w for r in runs_of for w in r[1:]]
+        rows.append(
+            (
+                f"analyze exact, 10,000 mixed items ({name})",
+                f"first call min {min(first):.2f} / median {statistics.median(first):.2f} s, "
+                f"warm min {min(warm):.2f} / median {statistics.median(warm):.2f} s",
+                "target < 1 s",
+            )
+        )
+
+
 def simulation_speed() -> None:
     dists = [Triangular(*t) for t in triangular_items(100, seed=7)]
     t, _ = best_of(lambda: simulate(dists, trials=100_000, seed=1, sampling="lhs"))
@@ -207,6 +252,8 @@ def main() -> None:
         exact_vs_openturns("triangular", triangular_estimate(n, n), repeat, reference=True)
     for n, repeat, reference in ((50, 7, True), (500, 3, True), (5000, 3, False)):
         exact_vs_openturns("mixed items", mixed_estimate(n, n), repeat, reference)
+    before = next((Path(a.split("=", 1)[1]) for a in sys.argv if a.startswith("--before=")), None)
+    ten_thousand_items(before=before)
     if quick:
         rows_print()
         return

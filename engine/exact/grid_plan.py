@@ -17,6 +17,7 @@ from functools import lru_cache
 
 import numpy as np
 
+from engine.exact.stacked_parts import stacked
 from engine.families.distributions import Beta, Continuous, Distribution, Triangular, Uniform
 
 # P90 - P10 of a normal, in standard deviations: 2 * Phi^-1(0.9).
@@ -27,24 +28,38 @@ ITEM_TAIL = 1e-10
 WIDE_POINTS = 1 << 22
 
 
-@lru_cache(maxsize=65536)
-def central_spread(d: Distribution) -> float:
-    """The item's spread where its probability is: the sd of its parts, each continuous part
-    read with its median and min(sd, (P90 - P10) / 2.563) so that a far tail cannot inflate it."""
-    atoms, continuous = d.parts()
-    weights, centres, variances = [], [], []
-    for value, mass in atoms:
-        weights.append(mass)
-        centres.append(value)
-        variances.append(0.0)
-    for weight, part in continuous:
-        p10, p50, p90 = (float(v) for v in part.ppf(np.array([0.1, 0.5, 0.9])))
-        weights.append(weight)
-        centres.append(p50)
-        variances.append(min(_variance_or_inf(part), ((p90 - p10) / NORMAL_P10_P90) ** 2))
-    w, c, v = np.array(weights), np.array(centres), np.array(variances)
-    mid = float(w @ c) / float(w.sum())
-    return math.sqrt(max(float(w @ (v + (c - mid) ** 2)) / float(w.sum()), 0.0))
+# Central spreads already computed: items outlive analyses, so an edit computes one more.
+_spreads: dict[Distribution, float] = {}
+
+
+def central_spreads(dists: Sequence[Distribution]) -> np.ndarray:
+    """Each item's spread where its probability is: the sd of its parts, each continuous
+    part read with its median and min(sd, (P90 - P10) / 2.563) so that a far tail cannot
+    inflate it. The quantiles of all parts of a family come from one call."""
+    new = [d for d in dict.fromkeys(dists) if d not in _spreads]
+    if new:
+        slots: list[tuple[int, float, float, float]] = []  # (item, weight, centre, variance)
+        families: dict[type, list[tuple[int, Continuous]]] = {}
+        for row, d in enumerate(new):
+            atoms, continuous = d.parts()
+            slots += [(row, mass, value, 0.0) for value, mass in atoms]
+            for weight, part in continuous:
+                families.setdefault(type(part), []).append((len(slots), part))
+                slots.append((row, weight, 0.0, _variance_or_inf(part)))
+        r, w, c, v = (np.array(column) for column in zip(*slots, strict=True))
+        r = r.astype(np.int64)
+        for members in families.values():
+            at = [slot for slot, _ in members]
+            p10, p50, p90 = stacked([p for _, p in members]).ppf(np.array([0.1, 0.5, 0.9])).T
+            c[at] = p50
+            v[at] = np.minimum(v[at], ((p90 - p10) / NORMAL_P10_P90) ** 2)
+        total = np.bincount(r, w)
+        mid = np.bincount(r, w * c) / total
+        spread = np.sqrt(np.maximum(np.bincount(r, w * (v + (c - mid[r]) ** 2)) / total, 0.0))
+        if len(_spreads) > 65536:
+            _spreads.clear()
+        _spreads.update(zip(new, spread.tolist(), strict=True))
+    return np.array([_spreads[d] for d in dists])
 
 
 def _variance_or_inf(part: Continuous) -> float:
@@ -93,7 +108,7 @@ class GridPlan:
 def plan_grid(dists: Sequence[Distribution], resolution: int) -> GridPlan:
     """The step from the items' central spreads; the widest unbounded item taken off the
     grid when its range would take more than WIDE_POINTS steps."""
-    spreads = np.array([central_spread(d) for d in dists])
+    spreads = central_spreads(dists)
     scale = math.sqrt(float(spreads @ spreads))
     if not scale > 0:  # rare events only: every central spread is a point; use the sd
         scale = math.sqrt(math.fsum(d.variance for d in dists))

@@ -22,7 +22,7 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.grid_plan import central_spread, item_range
+from engine.exact.grid_plan import central_spreads, item_range
 from engine.exact.item_spectra import SpectraPlan, gridded_spectra, partial_spectrum
 from engine.exact.lattice import Lattice, trim
 from engine.families.distributions import Distribution
@@ -73,7 +73,7 @@ class SpectralSum:
         # blocks from the lowest frequency up
         bins, blocks = 0, []
         # first guess: a normal with the items' central spread has died out by t = 8.9 / S
-        spread = math.sqrt(sum(central_spread(d) ** 2 for d in self.dists))
+        spread = math.sqrt(float(np.sum(central_spreads(self.dists) ** 2)))
         size = max(MIN_BLOCK, math.ceil(1.25 * 8.9 / spread * count * step / (2 * math.pi)))
         while bins < len(t_all):
             t = t_all[bins : bins + size]

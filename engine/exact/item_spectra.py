@@ -21,7 +21,7 @@ from functools import lru_cache
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.lattice import item_lattice
+from engine.exact.family_lattices import part_lattices
 from engine.families.distributions import Continuous, Distribution, Normal, Triangular, Uniform
 
 # Lattices up to this long are transformed directly at the frequencies in use (a matrix
@@ -95,25 +95,50 @@ def partial_spectrum(
     """The items' closed-form transforms at frequencies t, measured from step * sum(anchors)
     (`anchors`: each item's grid index near its mean)."""
     at = anchors * step
-    items = np.zeros((plan.count, len(t)), dtype=complex)
+    found: list[tuple[np.ndarray, np.ndarray]] = []  # (items, their parts' transforms)
     if plan.atoms:
         rows, mass, value = _columns(plan.atoms)
-        _add_rows(items, rows, mass[:, None] * _lattice_points(value - at[rows], step, t))
+        found.append((rows, mass[:, None] * _lattice_points(value - at[rows], step, t)))
     if plan.uniform:
         rows, w, low, high = _columns(plan.uniform)
-        _add_rows(items, rows, w[:, None] * _uniform(low - at[rows], high - at[rows], t))
+        found.append((rows, w[:, None] * _uniform(low - at[rows], high - at[rows], t)))
     if plan.triangular:
         rows, w, low, mode, high = _columns(plan.triangular)
         o = at[rows]
-        _add_rows(items, rows, w[:, None] * _triangular(low - o, mode - o, high - o, t))
+        found.append((rows, w[:, None] * _triangular(low - o, mode - o, high - o, t)))
     if plan.normal:
         rows, w, mu, sigma = _columns(plan.normal)
         phase = np.exp(1j * np.outer(mu - at[rows], t) - 0.5 * np.outer(sigma**2, t * t))
-        _add_rows(items, rows, w[:, None] * phase)
+        found.append((rows, w[:, None] * phase))
+    return _multiplied(plan, found, len(t))
+
+
+def _multiplied(
+    plan: SpectraPlan, found: list[tuple[np.ndarray, np.ndarray]], width: int
+) -> PartialSpectrum:
+    """Items of one closed-form part straight into the product; items of several parts (a
+    risk event: its zero and its impact) or with a gridded part summed first, in a table
+    only as tall as they are (a table of all 10,000 items was most of the cost)."""
     open_rows = np.unique([r for r, _, _ in plan.gridded]).astype(np.int64)
-    closed = np.ones(plan.count, dtype=bool)
-    closed[open_rows] = False
-    return PartialSpectrum(np.prod(items[closed], axis=0), open_rows, items[open_rows])
+    counts = np.bincount(
+        np.concatenate([rows for rows, _ in found] + [[]]).astype(np.int64), minlength=plan.count
+    )
+    summed_first = counts > 1
+    summed_first[open_rows] = True
+    kept = np.flatnonzero(summed_first)
+    where = np.full(plan.count, -1)
+    where[kept] = np.arange(len(kept))
+    closed = np.ones(width, dtype=complex)
+    summed = np.zeros((len(kept), width), dtype=complex)
+    for rows, values in found:
+        alone = ~summed_first[rows]
+        closed *= np.prod(values[alone], axis=0)
+        if not alone.all():
+            _add_rows(summed, where[rows[~alone]], values[~alone])
+    is_open = np.zeros(plan.count, dtype=bool)
+    is_open[open_rows] = True
+    closed *= np.prod(summed[~is_open[kept]], axis=0)
+    return PartialSpectrum(closed, open_rows, summed[where[open_rows]])
 
 
 def gridded_spectra(
@@ -131,8 +156,10 @@ def gridded_spectra(
     # the span only cuts heavy tails; a power of two of steps lets an analysis of the same
     # items on the same step (another level, a setting changed) reuse the lattices
     span = step * 2 ** math.ceil(math.log2(count))
-    for row, weight, part in plan.gridded:
-        start, masses, tail = _part_lattice(part, step, span)
+    parts = [part for _, _, part in plan.gridded]
+    for (row, weight, _), (start, masses, tail) in zip(
+        plan.gridded, part_lattices(parts, step, span), strict=True
+    ):
         folded += weight * tail
         lattices.append((start - anchors[row], masses))
     lengths = np.array([len(m) for _, m in lattices])
@@ -157,12 +184,6 @@ def gridded_spectra(
         wrapped = np.bincount(where, weights=masses, minlength=count)
         out[i] = np.conj(sp_fft.rfft(wrapped)[:bins])
     return out / spread, folded
-
-
-@lru_cache(maxsize=16384)
-def _part_lattice(part: Continuous, step: float, span: float) -> tuple[int, np.ndarray, float]:
-    """A gridded part's hat masses, kept for the next analysis of the same items."""
-    return item_lattice(part, step, span)
 
 
 @lru_cache(maxsize=64)

@@ -54,12 +54,6 @@ class Distribution:
         """E|X - c|^3, by default about the mean: the Berry–Esseen numerator."""
         raise NotImplementedError
 
-    @cached_property
-    def abs_moment3_about_mean(self) -> float:
-        """E|X - mean|^3, kept: items outlive analyses (validation caches them), so an edit
-        recomputes only the edited item's."""
-        return self.abs_moment3()
-
     def cdf(self, x: ArrayLike) -> np.ndarray:
         raise NotImplementedError
 
@@ -239,20 +233,24 @@ class Triangular(Continuous):
         return 2.4 * self.variance**2  # excess kurtosis of every triangle is -3/5
 
     def _partial_moments(self, y):
-        m = self.mode_fraction
+        # np.where, not if: the mode fraction may be an array (many triangles at once)
+        m = np.asarray(self.mode_fraction, dtype=float)
         y = np.clip(y, 0.0, 1.0)
+        t = np.maximum(y, m)
         out = []
-        for k in range(4):
-            left = 2 * np.minimum(y, m) ** (k + 2) / ((k + 2) * m) if m > 0 else np.zeros_like(y)
-            if m < 1:
-                t = np.maximum(y, m)
-                right = (2 / (1 - m)) * (
-                    (t ** (k + 1) - m ** (k + 1)) / (k + 1)
-                    - (t ** (k + 2) - m ** (k + 2)) / (k + 2)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            for k in range(4):
+                left = np.where(m > 0, 2 * np.minimum(y, m) ** (k + 2) / ((k + 2) * m), 0.0)
+                right = np.where(
+                    m < 1,
+                    (2 / (1 - m))
+                    * (
+                        (t ** (k + 1) - m ** (k + 1)) / (k + 1)
+                        - (t ** (k + 2) - m ** (k + 2)) / (k + 2)
+                    ),
+                    0.0,
                 )
-            else:
-                right = np.zeros_like(y)
-            out.append(left + right)
+                out.append(left + right)
         return tuple(out)
 
     def _integrated_cdf_std(self, y):

@@ -10,11 +10,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, fields
+from dataclasses import dataclass
 
 import numpy as np
 from scipy import special
 
+from engine.exact.item_abs_moments import abs_moments3
+from engine.exact.stacked_parts import stacked
 from engine.exact.totals import Cumulants
 from engine.families.distributions import (
     Beta,
@@ -86,7 +88,7 @@ def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.
     for family in BATCHED:
         group = [d for d in dists if type(d) is family]
         if group:
-            batch = family(*(np.array([getattr(d, f.name) for d in group]) for f in fields(family)))
+            batch = stacked(group, np.ones(len(group), dtype=int))
             out += batch.ppf(q[..., None]).sum(axis=-1)
     for d in dists:
         if type(d) not in BATCHED:
@@ -108,5 +110,5 @@ def berry_esseen_bound(dists: Sequence[Distribution], cumulants: Cumulants | Non
     var = cumulants.variance if cumulants is not None else math.fsum(d.variance for d in dists)
     if var <= 0:
         return math.inf
-    rho = math.fsum(d.abs_moment3_about_mean for d in dists if d.variance > 0)
+    rho = math.fsum(abs_moments3([d for d in dists if d.variance > 0]))
     return min(BERRY_ESSEEN_C0 * rho / var**1.5, 1.0)
