@@ -73,17 +73,7 @@ def test_the_simulated_allocation_conditions_on_the_analysis_own_trials() -> Non
     analysis = analyze(est, levels=(50, 90), trials=40_000, seed=3)
     first, second = allocate(est, analysis), allocate(est, analysis)
     assert first.to_dict() == second.to_dict()
-    dists = [build_distribution(i) for i in items]
-    levels = [r.level for r in analysis.levels]
-    rerun = simulated_means(
-        dists,
-        analysis.dependence,
-        [r.value for r in analysis.levels],
-        window_edges(analysis.total, levels),
-        trials=analysis.trials,
-        seed=analysis.seed,
-        sampling=analysis.sampling,
-    )
+    rerun = rerun_of(items, analysis)
     np.testing.assert_array_equal(rerun.total.by_replicate, analysis.total.by_replicate)
     assert np.all(rerun.window_trials > 0)
     for row in first.levels:
@@ -170,10 +160,17 @@ def test_block_factor_analyses_are_allocated_on_their_own_trials() -> None:
     est = Estimate(items=items, correlation=CorrelationSpec(default=0.3))
     analysis = analyze(est, levels=(50, 80), trials=20_000, seed=4)
     assert analysis.dependence is not None and analysis.dependence.model is not None
-    dists = [build_distribution(i) for i in items]
+    rerun = rerun_of(items, analysis)
+    np.testing.assert_array_equal(rerun.total.by_replicate, analysis.total.by_replicate)
+    for row in allocate(est, analysis).levels:
+        assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
+
+
+def rerun_of(items, analysis):
+    """The allocation's re-run of a correlated analysis, windows at the analysis's levels."""
     levels = [r.level for r in analysis.levels]
-    rerun = simulated_means(
-        dists,
+    return simulated_means(
+        [build_distribution(i) for i in items],
         analysis.dependence,
         [r.value for r in analysis.levels],
         window_edges(analysis.total, levels),
@@ -181,6 +178,3 @@ def test_block_factor_analyses_are_allocated_on_their_own_trials() -> None:
         seed=analysis.seed,
         sampling=analysis.sampling,
     )
-    np.testing.assert_array_equal(rerun.total.by_replicate, analysis.total.by_replicate)
-    for row in allocate(est, analysis).levels:
-        assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
