@@ -77,3 +77,18 @@ def correlated_normals(rank: float = 0.5) -> Estimate:
     ]
     spec = CorrelationSpec(pairs=[CorrelationPair("Steelwork", "Cladding", rank)])
     return Estimate(items=items, title="Correlated pair", unit="EUR", correlation=spec)
+
+
+def normal_item(name: str, mean: float, sd: float, group: str = "", **fields) -> LineItem:
+    """A normal line item stated the trade's way, by its P10 and P90 (mean -/+ z_0.9 sd)."""
+    half = float(special.ndtri(0.9)) * sd
+    return LineItem(
+        name,
+        "normal",
+        low=mean - half,
+        high=mean + half,
+        low_pct=10,
+        high_pct=90,
+        group=group,
+        **fields,
+    )

@@ -13,26 +13,13 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from report_fixtures import normal_item
 from scipy import stats
 
 from engine import Estimate, LineItem, analyze
 from engine.allocation import allocate
 from engine.allocation.exact_shares import conditional_means
 from engine.families.distributions import Discrete, Fixed, Occurrence, Triangular
-
-Z90 = stats.norm.ppf(0.9)
-
-
-def _normal(name: str, mean: float, sd: float, group: str = "") -> LineItem:
-    return LineItem(
-        name,
-        "normal",
-        low=mean - Z90 * sd,
-        high=mean + Z90 * sd,
-        low_pct=10,
-        high_pct=90,
-        group=group,
-    )
 
 
 def test_normal_items_match_the_bivariate_normal_conditional_mean() -> None:
@@ -42,7 +29,7 @@ def test_normal_items_match_the_bivariate_normal_conditional_mean() -> None:
     means = rng.uniform(100, 900, 7)
     sds = rng.uniform(5, 120, 7)
     items = [
-        _normal(f"N{k}", m, s, "AB"[k % 2])
+        normal_item(f"N{k}", m, s, "AB"[k % 2])
         for k, (m, s) in enumerate(zip(means, sds, strict=False))
     ]
     items.append(LineItem("Permit fees", "fixed", most_likely=40.0))

@@ -8,6 +8,7 @@ import math
 
 import numpy as np
 import pytest
+from report_fixtures import normal_item
 from scipy import stats
 
 from engine import (
@@ -23,14 +24,6 @@ from engine.allocation.naive import naive_shares
 from engine.allocation.simulated_shares import simulated_means, window_edges
 from engine.families.distributions import Triangular
 
-Z90 = stats.norm.ppf(0.9)
-
-
-def _normal(name: str, mean: float, sd: float) -> LineItem:
-    return LineItem(
-        name, "normal", low=mean - Z90 * sd, high=mean + Z90 * sd, low_pct=10, high_pct=90
-    )
-
 
 def test_correlated_normal_items_match_the_conditional_mean_of_a_normal_vector() -> None:
     # Jointly normal items: E[X_i | T = t] = mu_i + Cov(X_i, T) / Var(T) (t - M) (the
@@ -38,7 +31,9 @@ def test_correlated_normal_items_match_the_conditional_mean_of_a_normal_vector()
     # items a normal copula with the product-moment matrix it used (Iman & Conover 1982).
     means = np.array([400.0, 250.0, 120.0, 600.0])
     sds = np.array([60.0, 45.0, 30.0, 20.0])
-    items = [_normal(f"Part {k}", m, s) for k, (m, s) in enumerate(zip(means, sds, strict=False))]
+    items = [
+        normal_item(f"Part {k}", m, s) for k, (m, s) in enumerate(zip(means, sds, strict=False))
+    ]
     spec = CorrelationSpec(
         pairs=[CorrelationPair("Part 0", "Part 1", 0.6), CorrelationPair("Part 1", "Part 2", 0.3)]
     )
@@ -90,7 +85,7 @@ def test_the_simulated_allocation_conditions_on_the_analysis_own_trials() -> Non
 
 def test_base_and_budget_confidence_against_the_normal_cdf() -> None:
     # Normal items: P(T <= x) = Phi((x - M) / S) (closed form of the normal sum).
-    items = [_normal("A", 100.0, 10.0), _normal("B", 200.0, 20.0)]
+    items = [normal_item("A", 100.0, 10.0), normal_item("B", 200.0, 20.0)]
     est = Estimate(items=items)
     analysis = analyze(est, method="exact")
     alloc = allocate(est, analysis, budgets=[310.0, 340.0])

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from report_fixtures import normal_item
 from scipy import special
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, analyze
@@ -105,11 +106,6 @@ def test_factor_model_refuses_what_it_cannot_carry():
     assert factor_model(BlockStructure.from_estimate(estimate).pearson()) is None
 
 
-def _normal(name: str, mean: float, sd: float, group: str) -> LineItem:
-    half = special.ndtri(0.9) * sd
-    return LineItem(name, "normal", mean - half, None, mean + half, 10, 90, group=group)
-
-
 @pytest.mark.parametrize(
     "spec",
     [
@@ -126,7 +122,7 @@ def test_many_correlated_normals_by_block_factors_match_the_closed_form(spec):
     # items is normal with variance s' R s, R = 2 sin(pi r_s / 6) (Pearson 1907).
     n = 400
     sds = 2.0 + np.arange(n) % 5
-    items = [_normal(f"task {k}", 50.0, sds[k], f"crew {k % 3}") for k in range(n)]
+    items = [normal_item(f"task {k}", 50.0, sds[k], f"crew {k % 3}") for k in range(n)]
     estimate = Estimate(items, correlation=spec)
     analysis = analyze(estimate, trials=40_000, seed=5, levels=(5, 50, 80, 95))
     dependence = analysis.dependence
@@ -190,7 +186,7 @@ def test_beyond_the_dense_route_what_blocks_cannot_carry_is_refused_in_words(spe
 def test_report_summarises_achieved_correlations_by_group_when_no_matrix_is_kept():
     from reports import content
 
-    items = [_normal(f"task {k}", 50.0, 3.0, f"crew {k % 2}") for k in range(320)]
+    items = [normal_item(f"task {k}", 50.0, 3.0, f"crew {k % 2}") for k in range(320)]
     spec = CorrelationSpec(default=0.2, groups={"crew 1": 0.6})
     analysis = analyze(Estimate(items, correlation=spec), trials=20_000, seed=2)
     dependence = analysis.dependence

@@ -6,6 +6,7 @@ import json
 
 import numpy as np
 import pytest
+from report_fixtures import normal_item
 from scipy import special, stats
 
 from engine import (
@@ -23,14 +24,6 @@ from engine.simulation.iman_conover import induce, rank_to_pearson, score_matrix
 from engine.simulation.ranking import orders
 from engine.simulation.replicates import replicate_layout
 from engine.validation import build_distribution
-
-Z90 = special.ndtri(0.9)
-
-
-def _normal(name: str, mean: float, sd: float) -> LineItem:
-    half = Z90 * sd
-    return LineItem(name, "normal", mean - half, None, mean + half, low_pct=10, high_pct=90)
-
 
 # Iman & Conover (1982) illustrate the method on a few variables and samples of about
 # n = 100 (from memory); we use 4 variables and n = 100, repeated over 200 seeded samples.
@@ -66,7 +59,7 @@ RANKS = np.array([[1.0, 0.6, 0.3], [0.6, 1.0, -0.2], [0.3, -0.2, 1.0]])
 
 def _correlated_normals() -> Estimate:
     items = [
-        _normal(n, m, s)
+        normal_item(n, m, s)
         for n, m, s in zip(("Earthworks", "Structure", "Fit-out"), (100, 250, 60), SDS, strict=True)
     ]
     pairs = [
@@ -166,7 +159,7 @@ def test_risk_event_follows_its_correlated_partner():
     # The shared-score mechanism: a risk event correlated with a base item occurs more often
     # when that item runs high (a consequence of one score per item, no outside source).
     items = [
-        _normal("Tunnel", 500, 50),
+        normal_item("Tunnel", 500, 50),
         LineItem("Flooding", "uniform", 20, None, 80, probability=0.3),
     ]
     spec = CorrelationSpec(pairs=[CorrelationPair("Tunnel", "Flooding", 0.8)])
@@ -188,7 +181,7 @@ def test_normal_score_matrix_repaired_when_the_conversion_breaks_it():
         for i in range(3)
         for j in range(i + 1, 3)
     ]
-    items = [_normal(n, 100, 10) for n in names]
+    items = [normal_item(n, 100, 10) for n in names]
     analysis = analyze(
         Estimate(items, correlation=CorrelationSpec(pairs=pairs)), trials=6000, seed=3
     )

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from report_fixtures import normal_item
 from scipy import special
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, LineItem, analyze
@@ -23,11 +24,6 @@ SEEDS = (0, 1, 2)
 # |error| / reported SE: the batch SE over 20 replicates is Student t with 19 degrees of
 # freedom when the error is normal, and P(|t_19| > 4) is about 0.0008 (scipy.stats.t).
 COVERED = 4.0
-
-
-def _normal(name: str, mean: float, sd: float, group: str = "") -> LineItem:
-    half = special.ndtri(0.9) * sd
-    return LineItem(name, "normal", mean - half, None, mean + half, 10, 90, group=group)
 
 
 def _errors_in_standard_errors(estimate: Estimate, exact: np.ndarray, seed: int, sampling: str):
@@ -47,7 +43,7 @@ def _mixed_items() -> list[LineItem]:
         LineItem("Frame", "pert", 200, 240, 390),
         LineItem("Cladding", "uniform", 80, None, 140),
         LineItem("Services", "lognormal", 60, None, 150, 10, 90),
-        _normal("Fit-out", 90, 12),
+        normal_item("Fit-out", 90, 12),
     ]
 
 
@@ -73,7 +69,7 @@ def _normal_case(kind: str, coefficient: float) -> tuple[Estimate, np.ndarray]:
     sds = np.array([3.0, 5.0, 8.0, 2.0, 6.0, 4.0])
     means = 100 + 10 * np.arange(6)
     groups = ["east", "west"] * 3
-    items = [_normal(f"package {k}", means[k], sds[k], groups[k]) for k in range(6)]
+    items = [normal_item(f"package {k}", means[k], sds[k], groups[k]) for k in range(6)]
     if kind == "default":
         spec = CorrelationSpec(default=coefficient)
     elif kind == "groups":  # two groups, comonotone or nearly within, independent between

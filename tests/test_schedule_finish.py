@@ -14,24 +14,15 @@ import math
 
 import numpy as np
 import pytest
-from scipy import integrate, special, stats
+from report_fixtures import normal_item
+from scipy import integrate, stats
 
 from engine import CorrelationPair, CorrelationSpec, Estimate, InputError, LineItem, analyze
 from engine.schedule.paths import NO_PATH, schedule_paths
 
-Z90 = float(special.ndtri(0.9))
 
-
-def normal_item(name: str, mean: float, sd: float, *paths: str) -> LineItem:
-    return LineItem(
-        name,
-        "normal",
-        low=mean - Z90 * sd,
-        high=mean + Z90 * sd,
-        low_pct=10,
-        high_pct=90,
-        paths=paths,
-    )
+def path_item(name: str, mean: float, sd: float, *paths: str) -> LineItem:
+    return normal_item(name, mean, sd, paths=paths)
 
 
 def irwin_hall_cdf(x: float, n: int) -> float:
@@ -97,7 +88,7 @@ def test_identical_uniform_paths_are_irwin_hall_to_the_nth(n_paths: int) -> None
 def test_unequal_normal_paths_are_the_product_of_normal_cdfs() -> None:
     # Normal paths: the finish CDF is prod_k Phi((t - m_k) / s_k)
     spec = [(100, 8), (96, 12), (90, 20)]
-    items = [normal_item(f"A{k}", m, s, f"P{k}") for k, (m, s) in enumerate(spec)]
+    items = [path_item(f"A{k}", m, s, f"P{k}") for k, (m, s) in enumerate(spec)]
     a = analyze(Estimate(items), levels=(50, 80, 95))
     t = np.linspace(60, 160, 201)
     expected = np.prod([stats.norm.cdf(t, m, s) for m, s in spec], axis=0)
@@ -119,7 +110,7 @@ def _criticality(spec: list[tuple[float, float]], k: int) -> float:
 
 def test_two_independent_normal_paths_match_clark_exactly() -> None:
     # Clark (1961) with rho = 0
-    items = [normal_item("Build", 100, 10, "North"), normal_item("Ship", 95, 15, "South")]
+    items = [path_item("Build", 100, 10, "North"), path_item("Ship", 95, 15, "South")]
     a = analyze(Estimate(items))
     mean, sd, p_first = clark_moments(100, 10, 95, 15, 0.0)
     assert a.total.mean == pytest.approx(mean, abs=0.02)
@@ -130,9 +121,9 @@ def test_two_independent_normal_paths_match_clark_exactly() -> None:
 def test_shared_activity_correlates_paths_as_clark_says() -> None:
     # X = A + C, Y = B + C with C shared: rho = var C / (sd X sd Y); Clark (1961) moments
     items = [
-        normal_item("Common foundation", 50, 6),
-        normal_item("Tower crane", 50, 8, "East"),
-        normal_item("Cladding", 46, 10, "West"),
+        path_item("Common foundation", 50, 6),
+        path_item("Tower crane", 50, 8, "East"),
+        path_item("Cladding", 46, 10, "West"),
     ]
     items[0] = items[0].with_changes(paths=("East", "West"))
     a = analyze(Estimate(items), trials=400_000, seed=20261202)
@@ -196,8 +187,8 @@ def test_correlated_paths_are_simulated_with_the_stated_correlation() -> None:
     # Normal activities with rank correlation r_s: Iman-Conover on normal scores gives the
     # Pearson correlation 2 sin(pi r_s / 6) (Pearson 1907); then Clark (1961).
     items = [
-        normal_item("North works", 100, 10, "North"),
-        normal_item("South works", 98, 12, "South"),
+        path_item("North works", 100, 10, "North"),
+        path_item("South works", 98, 12, "South"),
     ]
     spec = CorrelationSpec(pairs=[CorrelationPair("North works", "South works", 0.6)])
     a = analyze(Estimate(items, correlation=spec), trials=200_000, seed=3)
@@ -274,10 +265,10 @@ def test_correlated_schedule_keeps_the_correlation_record() -> None:
     # with covariances is the longest path's, Var = sum_ij r_ij s_i s_j (correlated normals)
     # with r = 2 sin(pi r_s / 6) (Pearson 1907); "if independent" is the exact finish.
     items = [
-        normal_item("N1", 50, 6, "North"),
-        normal_item("N2", 52, 8, "North"),
-        normal_item("S1", 49, 7, "South"),
-        normal_item("S2", 50, 5, "South"),
+        path_item("N1", 50, 6, "North"),
+        path_item("N2", 52, 8, "North"),
+        path_item("S1", 49, 7, "South"),
+        path_item("S2", 50, 5, "South"),
     ]
     spec = CorrelationSpec(pairs=[CorrelationPair("N1", "N2", 0.5)])
     a = analyze(Estimate(items, correlation=spec), trials=100_000, seed=9)
