@@ -195,18 +195,14 @@ class CompareDialog(QDialog):
         changes = [[c.name, c.group, c.kind, c.describe()] for c in result.changes]
         self.tabs.addTab(chart, "S-curves")
         self.tabs.addTab(_table(headers, levels, "compare-levels"), "Levels")
-        self.tabs.addTab(
-            _table(
-                [
-                    "Group",
-                    f"{numbers.level(top)} share before",
-                    f"{numbers.level(top)} share after",
-                ],
-                groups,
-                "compare-groups",
-            ),
-            "Contingency by group",
+        by_group = _table(
+            ["Group", f"{numbers.level(top)} share before", f"{numbers.level(top)} share after"],
+            groups,
+            "compare-groups",
         )
+        if result.shares_note:  # a schedule: no shares, and the reason where they would be
+            by_group = QLabel(result.shares_note, wordWrap=True, objectName="compare-groups-note")
+        self.tabs.addTab(by_group, "Contingency by group")
         self.tabs.addTab(
             _table(["Item", "Group", "Change", "What changed"], changes, "compare-items"),
             "Items changed",

@@ -73,9 +73,12 @@ def _write_pdf(target: BinaryIO, comparison: Comparison, about: dict[str, Any], 
     flow.gap()
     draw_before_after(chart_block(flow, 3.8), comparison, unit)
     level = comparison.levels[-1].level
-    groups = said.group_table(comparison, level)
     title = f"Where the contingency sits at P{level:g}, by group"
-    titled_table(flow, title, groups, 7, [2.4, 1, 1, 1])
+    if comparison.shares_note:
+        flow.text(title, size=10, weight="bold")
+        flow.text(comparison.shares_note, size=8.5)
+    else:
+        titled_table(flow, title, said.group_table(comparison, level), 7, [2.4, 1, 1, 1])
     flow.gap()
     changes = said.change_table(comparison)
     if changes.rows:
@@ -113,7 +116,11 @@ def _write_xlsx(target: BinaryIO, comparison: Comparison, about: dict[str, Any])
     row = put_table(sheet, 6, said.level_table(comparison)) + 1
     row = put_table(sheet, row, said.facts_table(comparison)) + 1
     level = comparison.levels[-1].level
-    row = put_table(sheet, row, said.group_table(comparison, level)) + 1
+    if comparison.shares_note:
+        put(sheet, row, 1, comparison.shares_note)
+        row += 2
+    else:
+        row = put_table(sheet, row, said.group_table(comparison, level)) + 1
     put_table(sheet, row, said.change_table(comparison))
     sheet.column_dimensions["A"].width = 46
     for col in range(2, 9):

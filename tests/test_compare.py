@@ -191,3 +191,42 @@ def test_changes_read_as_the_window_writes_them() -> None:
     said = change.describe()
     assert "1,400,000 → 1,500,000" in said  # never '1.4e+06'
     assert "probability 30% → 10%" in said
+
+
+def test_two_schedules_compare_finishes_without_sharing_them_out(tmp_path) -> None:
+    # A finish is the latest path, not the sum of its activities: no group shares on either
+    # side, the reason said in their place, and the chance of the base estimate still given.
+    z = stats.norm.ppf(0.9)
+
+    def activity(name: str, mean: float, sd: float, path: str) -> LineItem:
+        return LineItem(
+            name,
+            "normal",
+            low=mean - z * sd,
+            high=mean + z * sd,
+            low_pct=10,
+            high_pct=90,
+            paths=(path,),
+        )
+
+    before = Estimate(items=[activity("Dig", 100, 10, "P1"), activity("Lay", 100, 10, "P2")])
+    after = Estimate(items=[activity("Dig", 100, 4, "P1"), activity("Lay", 100, 10, "P2")])
+    runs = [analyze(e, method="exact", levels=(50, 90)) for e in (before, after)]
+    allocations = [allocate(e, a) for e, a in zip((before, after), runs, strict=True)]
+    result = compare(before, runs[0], allocations[0], after, runs[1], allocations[1])
+    assert result.shares_note and result.group_changes(90) == []
+    data = result.to_dict()
+    assert data["groups_note"] == result.shares_note and data["groups"]["P90"] == []
+    assert data["before_allocation"]["levels"] == [] and data["before_allocation"]["note"]
+    # Finish of independent paths: the product of their CDFs (here normal CDFs at the base).
+    base = runs[1].base_estimate
+    expected = stats.norm.cdf(base, 100, 4) * stats.norm.cdf(base, 100, 10)
+    assert result.after_allocation.base_confidence.probability == pytest.approx(expected, abs=1e-6)
+    for suffix in (".pdf", ".xlsx"):
+        from reports.comparison_report import write_comparison
+
+        about = {"unit": "days", "created": "today", "rangefold_version": "test", "caution": ""}
+        written = write_comparison(tmp_path / f"c{suffix}", result, about, paper="a4")
+        assert written.stat().st_size > 0
+    cells = [c.value for row in load_workbook(tmp_path / "c.xlsx").active.iter_rows() for c in row]
+    assert result.shares_note in cells

@@ -92,3 +92,30 @@ def test_a_schedule_is_not_shared_out_but_keeps_the_chance_of_its_base(
     assert "6.2%" in panel.base_said.text() or "6.3%" in panel.base_said.text()
     written = window.document.export_report(tmp_path / "schedule.json")
     assert written is not None and '"allocation"' not in written.read_text(encoding="utf-8")
+
+
+def test_comparing_two_schedules_says_why_there_are_no_group_shares(
+    make_window, qtbot, tmp_path, monkeypatch
+):
+    from PySide6.QtWidgets import QFileDialog, QLabel
+
+    from engine.allocation import NOT_A_SUM
+    from gui.compare_dialog import compare_with
+
+    window = make_window()
+    open_estimate(window, qtbot, four_paths())
+    after = tmp_path / "after.csv"
+    rows = "".join(f"Branch {k},triangular,80,100,{110 if k else 120},P{k}\n" for k in range(4))
+    after.write_text("Item,Distribution,Low,Most likely,High,Path\n" + rows, encoding="utf-8")
+    monkeypatch.setattr(QFileDialog, "getOpenFileName", lambda *a, **k: (str(after), ""))
+    dialog = compare_with(window)
+    qtbot.addWidget(dialog)
+    with qtbot.waitSignal(dialog._signals.finished, timeout=TIMEOUT_MS):
+        pass
+    assert dialog.comparison.shares_note == NOT_A_SUM
+    page = dialog.tabs.widget(2)
+    assert isinstance(page, QLabel) and page.text() == NOT_A_SUM
+    # the finish still moves: three paths now end by 110, so P90 is earlier
+    p90 = dialog.comparison.levels[-1]
+    assert p90.after < p90.before
+    dialog.close()

@@ -90,6 +90,7 @@ class Allocation:
     budgets: list[Confidence] = field(default_factory=list)
     risk_events: list[RankedRisk] = field(default_factory=list)
     compute_seconds: float = 0.0
+    note: str = ""  # why there are no shares (a schedule's finish), else empty
 
     def at(self, level: float) -> LevelAllocation:
         return min(self.levels, key=lambda row: abs(row.level - level))
@@ -103,6 +104,7 @@ class Allocation:
             "budgets": [b.to_dict() for b in self.budgets],
             "levels": [row.to_dict(self.names) for row in self.levels],
             "risk_events": [r.to_dict() for r in self.risk_events],
+            **({"note": self.note} if self.note else {}),
         }
 
 
@@ -128,7 +130,8 @@ def allocate(
     cancel: Callable[[], bool] | None = None,
 ) -> Allocation:
     """The contingency of `analysis` (of `estimate`) allocated at each of its levels; the
-    confidence of the base estimate and of each budget; the risk events ranked."""
+    confidence of the base estimate and of each budget; the risk events ranked. A schedule's
+    finish is not shared out (no levels, `note` says why); the rest still holds."""
     started = time.perf_counter()
     items = list(estimate.items)
     if [i.name for i in items] != list(analysis.item_names):
@@ -136,10 +139,13 @@ def allocate(
     tracker = Progress(progress, cancel)
     dists = [build_distribution(i) for i in items]
     bases = [base_value(i)[0] for i in items]
-    totals = [row.value for row in analysis.levels]
-    levels = [row.level for row in analysis.levels]
+    shared = shares_add_up(analysis)
+    totals = [row.value for row in analysis.levels] if shared else []
+    levels = [row.level for row in analysis.levels] if shared else []
     errors = group_jack = None
-    if analysis.dependence is None:
+    if not shared:
+        method = "none"
+    elif analysis.dependence is None:
         method = "exact"
         means = conditional_means(dists, totals, progress=tracker)
     else:
@@ -197,6 +203,7 @@ def allocate(
         budgets=[confidence_of(analysis.total, float(b), base, "budget") for b in budgets],
         risk_events=rank_risk_events(items, dists, shares_by_level),
         compute_seconds=time.perf_counter() - started,
+        note="" if shared else NOT_A_SUM,
     )
 
 

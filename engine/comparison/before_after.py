@@ -51,8 +51,16 @@ class Comparison:
         """Sum of the risk events' expected values, before and after."""
         return _exposure(self.before_allocation), _exposure(self.after_allocation)
 
+    @property
+    def shares_note(self) -> str:
+        """Why the contingency is not shared out by group (a schedule on either side), or ""."""
+        return self.before_allocation.note or self.after_allocation.note
+
     def group_changes(self, level: float) -> list[tuple[str, float | None, float | None]]:
-        """(group, share before, share after) at the level; None where a side lacks it."""
+        """(group, share before, share after) at the level; None where a side lacks it;
+        none at all when either side is a schedule (`shares_note`)."""
+        if self.shares_note:
+            return []
         b = self.before_allocation.at(level).groups
         a = self.after_allocation.at(level).groups
         names = list(b) + [g for g in a if g not in b]
@@ -89,6 +97,7 @@ class Comparison:
                 ]
                 for r in self.levels
             },
+            **({"groups_note": self.shares_note} if self.shares_note else {}),
             "items": [c.to_dict() for c in self.changes],
             "before_allocation": self.before_allocation.to_dict(),
             "after_allocation": self.after_allocation.to_dict(),
