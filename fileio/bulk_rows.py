@@ -11,8 +11,8 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 
 from engine import LineItem
-from fileio.cells import _PLAIN
-from fileio.rows import DEFAULT_SHAPE, item_from_cells, unquote_formula_text
+from fileio.cells import _PLAIN, unquote_formula_text
+from fileio.rows import DEFAULT_SHAPE, item_from_cells
 from fileio.safety import MAX_MAGNITUDE
 
 FIGURES = ("Low", "Most likely", "High")

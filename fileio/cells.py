@@ -306,3 +306,9 @@ def _guess_decimal(s: str) -> str:
     if dots > 1:
         return ","
     return "."
+
+
+def unquote_formula_text(text: str) -> str:
+    """Drop the apostrophe an export puts before text that a spreadsheet would run as a
+    formula ('=X' -> '=X' shown as text), so an exported estimate reads back as it was."""
+    return text[1:] if text.startswith("'") and text[1:].startswith(FORMULA_STARTS) else text

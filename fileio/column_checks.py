@@ -14,6 +14,7 @@ import unicodedata
 from collections.abc import Collection, Sequence
 
 from engine import Problem
+from fileio.cells import unquote_formula_text
 from fileio.headers import column_letter
 
 # Currency codes an estimate's title block or header is likely to state (ISO 4217).
@@ -61,7 +62,7 @@ def notes_of(row: Sequence[str], headers: Sequence[str], read: Collection[int]) 
     for i, text in enumerate(row):
         if text and i not in read:
             name = headers[i] if i < len(headers) else f"Column {column_letter(i)}"
-            notes[name] = text
+            notes[name] = unquote_formula_text(text)
     return notes
 
 

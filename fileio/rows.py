@@ -13,7 +13,6 @@ from collections.abc import Callable, Collection, Mapping
 from engine import LineItem, Problem
 from engine.schedule.paths import path_names
 from fileio.cells import (
-    FORMULA_STARTS,
     CellError,
     is_blank,
     is_dash,
@@ -22,6 +21,7 @@ from fileio.cells import (
     parse_number,
     parse_percentile,
     parse_probability,
+    unquote_formula_text,
 )
 
 OPTIONAL_COLUMNS = ("Distribution", "Low %", "High %", "Probability", "Group", "Shape", "Path")
@@ -130,12 +130,6 @@ def item_from_cells(
         raw=raw,
         read_problems=tuple(problems),
     )
-
-
-def unquote_formula_text(text: str) -> str:
-    """Drop the apostrophe an export puts before text that a spreadsheet would run as a
-    formula ('=X' -> '=X' shown as text), so an exported estimate reads back as it was."""
-    return text[1:] if text.startswith("'") and text[1:].startswith(FORMULA_STARTS) else text
 
 
 def _implied_family(cells: Mapping[str, str], ml_text: str, text: Callable[[str], str]) -> str:

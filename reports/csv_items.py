@@ -13,6 +13,7 @@ from engine import COLUMNS, Estimate, LineItem
 from engine.schedule.paths import path_text
 from fileio.cells import FORMULA_STARTS
 from reports.content import discrete_text
+from reports.item_sources import note_headers
 
 # The importer's columns; "PERT shape" because a bare "Shape" header reads as the family.
 CSV_COLUMNS = (*COLUMNS, "PERT shape")
@@ -30,11 +31,15 @@ def write_items_csv(path: str | Path, estimate: Estimate) -> Path:
     from fileio.atomic import write_atomic
 
     path = Path(path)
+    notes = note_headers(estimate)  # unmapped columns travel back under their own headers
     out = io.StringIO(newline="")
     writer = csv.writer(out, lineterminator="\r\n")
-    writer.writerow(CSV_COLUMNS)
+    writer.writerow([*CSV_COLUMNS, *notes])
     for item in estimate.items:
-        writer.writerow([_field(item, column) for column in CSV_COLUMNS])
+        writer.writerow(
+            [_field(item, column) for column in CSV_COLUMNS]
+            + [neutralise(item.notes.get(h, "")) for h in notes]
+        )
     write_atomic(path, out.getvalue().encode("utf-8-sig"), backup=False)
     return path
 

@@ -112,3 +112,20 @@ def test_formula_like_names_survive_export_and_import(tmp_path):
     )
     back = read_estimate(write_items_csv(tmp_path / "items.csv", estimate))
     assert (back.items[0].name, back.items[0].group) == ("=Q3 allowance", "@site")
+
+
+def test_csv_export_keeps_the_notes_columns_and_they_import_back(tmp_path):
+    """Columns the import did not map travel as notes; the CSV export writes them under their
+    own headers (formula-like text neutralised), and reading it back gives the same notes."""
+    estimate = Estimate(
+        items=[
+            LineItem("Piling", "fixed", None, 100.0, None, notes={"Basis": "=quote 2291"}),
+            LineItem("Roof", "fixed", None, 50.0, None, notes={"Owner": "site team"}),
+        ]
+    )
+    path = write_items_csv(tmp_path / "items.csv", estimate)
+    with path.open(encoding="utf-8-sig", newline="") as handle:
+        rows = list(csv.reader(handle))
+    assert rows[0][-2:] == ["Basis", "Owner"] and rows[1][-2] == "'=quote 2291"
+    back = read_estimate(path)
+    assert [i.notes for i in back.items] == [{"Basis": "=quote 2291"}, {"Owner": "site team"}]
