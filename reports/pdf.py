@@ -31,6 +31,7 @@ from reports.text_fonts import font_family, make_printable, substitution_notice
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}  # inches
 MARGIN = 0.6
 ITEMS_PER_PAGE = 40
+FOOTNOTE_SIZE = 7.0  # points: the lines under the item table
 # Beyond this many items the appendix lists this many, the widest (reports/compact_items.py).
 COMPACT_AFTER = 400
 HEADER_FILL = "#dce7ec"
@@ -410,21 +411,48 @@ def _item_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:
         return compact_item_pages(table, paper, footer, keep=COMPACT_AFTER)
     ml = table.headers.index("Most likely")
     widths = [2.2, 1.1, 0.75, 0.7, 0.85, 0.7, 0.38, 0.4, 0.6, 0.78, 0.72]
-    pages = []
-    for start in range(0, max(len(table.rows), 1), ITEMS_PER_PAGE):
+    items = list(estimate.items)
+    pages: list[Page] = []
+    start = 0
+    while start < len(table.rows) or not pages:
         page = Page(paper, footer)
         page.text("Line items" + (" (continued)" if start else ""), size=14, weight="bold")
         page.gap()
-        rows = table.rows[start : start + ITEMS_PER_PAGE]
+        end = start + 1
+        while end < min(start + ITEMS_PER_PAGE, len(table.rows)) and _fits(
+            page, table, items, ml, start, end + 1
+        ):
+            end += 1
+        rows = table.rows[start:end]
         discrete = [r for r in rows if isinstance(r[ml], str)]
-        # Value lists do not fit a printed cell: a numbered note under the table has them.
+        # Value lists and notes do not fit a printed cell: lines under the table have them.
         shown = [_noted(r, discrete, ml) for r in rows]
         page.table(Table(table.columns, shown), size=6.2, widths=widths)
         page.gap()
-        for k, row in enumerate(discrete, start=1):
-            page.text(f"[{k}] {row[0]}: {row[ml]}", size=7)
+        for line in _footnotes(table.rows[start:end], items[start:end], ml):
+            page.text(line, size=FOOTNOTE_SIZE)
         pages.append(page)
+        start = end
     return pages
+
+
+def _fits(page: Page, table: Table, items: list, ml: int, start: int, end: int) -> bool:
+    """Whether rows start..end, their table and their lines under it, fit the page."""
+    rows = table.rows[start:end]
+    below = sum(page.text_height(t, FOOTNOTE_SIZE) for t in _footnotes(rows, items[start:end], ml))
+    return page.table_height(Table(table.columns, rows), 6.2) + 0.12 + below <= page.room
+
+
+def _footnotes(rows: list[list[Any]], items: list, ml: int) -> list[str]:
+    """The discrete items' value lists, numbered as their cells say, then each item's notes
+    (columns the import kept but did not read: a Basis or Notes column)."""
+    discrete = [r for r in rows if isinstance(r[ml], str)]
+    lines = [f"[{k}] {row[0]}: {row[ml]}" for k, row in enumerate(discrete, start=1)]
+    noted = [(item.name, item.notes) for item in items if item.notes]
+    if noted:
+        lines.append("Notes kept from the estimate's other columns:")
+    lines += [f"{name}: " + "; ".join(f"{h}: {t}" for h, t in n.items()) for name, n in noted]
+    return lines
 
 
 def _import_pages(estimate: Estimate, paper: str, footer: str) -> list[Page]:

@@ -76,3 +76,27 @@ def test_a_long_summary_continues_on_a_second_page(tmp_path):
     # decision over two pages (19 levels, 19 verdicts, the S-curve), evidence, charts,
     # allocation, items
     assert len(pages_of(path.read_bytes())) == 6
+
+
+def test_item_notes_print_under_the_table_and_pages_never_overflow(tmp_path):
+    """Columns the import kept as notes (a Basis column, say) are printed under the item
+    table with the item's full name; with a long note on every item the table takes fewer
+    rows a page, so nothing runs past the margin, and every note is printed."""
+    import dataclasses
+    import subprocess
+
+    from reports.pdf import MARGIN, Page, _item_pages
+
+    basis = "budget quote from the framework supplier, escalated to the midpoint of works " * 2
+    estimate = uniforms(ITEMS_PER_PAGE)
+    estimate.items = [
+        dataclasses.replace(item, notes={"Basis": f"{basis}#{k}"})
+        for k, item in enumerate(estimate.items)
+    ]
+    pages = _item_pages(estimate, "a4", "footer")
+    assert len(pages) > 1
+    assert all(isinstance(p, Page) and p.y <= p.height - MARGIN for p in pages)
+    analysis = analyze(estimate, method="exact")
+    path = write_report(tmp_path / "r.pdf", estimate, analysis, Settings())
+    text = subprocess.run(["pdftotext", str(path), "-"], capture_output=True, text=True).stdout
+    assert all(f"#{k}" in text for k in range(ITEMS_PER_PAGE))
