@@ -41,9 +41,10 @@ BASE_COLUMNS: tuple[Column, ...] = (
         "money",
         "the items' means and variances added, read off a normal curve",
     ),
+    # The verdict beside the shortcut it judges, seen without scrolling on a laptop screen.
+    ("Verdict", lambda r: VERDICT_LOOK[r.verdict][0], "text", "does the shortcut hold here"),
     ("Gap", lambda r: r.gap, "money", "normal shortcut minus the total: negative understates"),
     ("Gap %", lambda r: r.gap_pct, "percent", "gap as a share of the total"),
-    ("Verdict", lambda r: VERDICT_LOOK[r.verdict][0], "text", "does the shortcut hold here"),
     (
         "Cornish–Fisher",
         lambda r: r.cornish_fisher,
@@ -125,7 +126,7 @@ class LevelTable(QTableWidget):
         self.setRowCount(len(analysis.levels))
         decimals = money_decimals(analysis, columns)
         for k, (name, _, _, tip) in enumerate(columns):
-            header = QTableWidgetItem(name)
+            header = QTableWidgetItem(two_lines(name))
             header.setToolTip(tip)
             self.setHorizontalHeaderItem(k, header)
         bold = QFont()
@@ -168,4 +169,17 @@ class LevelTable(QTableWidget):
             self.setFixedHeight(self._fitting_height())
 
     def column_names(self) -> list[str]:
-        return [self.horizontalHeaderItem(k).text() for k in range(self.columnCount())]
+        return [
+            self.horizontalHeaderItem(k).text().replace("\n", " ")
+            for k in range(self.columnCount())
+        ]
+
+
+def two_lines(name: str) -> str:
+    """A long header on two lines, broken at the space nearest its middle: the columns then
+    take their numbers' width, not their words'."""
+    spaces = [k for k, c in enumerate(name) if c == " "]
+    if len(name) < 12 or not spaces:
+        return name
+    k = min(spaces, key=lambda k: abs(2 * k - len(name)))
+    return name[:k] + "\n" + name[k + 1 :]

@@ -167,7 +167,7 @@ class MainWindow(QMainWindow):
         keep_usable_widths(self.splitter, left, results_box)
         self.splitter.setStretchFactor(0, 1)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([620, 540])  # the typed figures in view; results keep their minimum
+        self.splitter.setSizes([580, 620])  # the typed figures, and the verdict in view at 1280 px
 
         self.caution = QLabel(caution_text(), objectName="caution", wordWrap=True)
         self.caution.setStyleSheet("color: #3a4750; font-style: italic; padding: 2px 6px;")
@@ -194,7 +194,7 @@ class MainWindow(QMainWindow):
             | QDockWidget.DockWidgetFeature.DockWidgetClosable
         )
         self.addDockWidget(Qt.DockWidgetArea.RightDockWidgetArea, self.settings_dock)
-        self.resizeDocks([self.settings_dock], [300], Qt.Orientation.Horizontal)
+        self.resizeDocks([self.settings_dock], [292], Qt.Orientation.Horizontal)
 
     def _build_status_bar(self) -> None:
         bar = self.statusBar()

@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (
     QHBoxLayout,
     QLabel,
     QLineEdit,
+    QSizePolicy,
     QSpinBox,
     QWidget,
 )
@@ -93,7 +94,18 @@ class SettingsPanel(QWidget):
         self.unit = QLineEdit(objectName="unit")
         self.unit.setPlaceholderText("e.g. EUR, k$, working days")
 
+        # Fields as wide as their usual contents, so the panel leaves the results their room.
+        for combo in (self.method, self.sampling):
+            combo.setSizeAdjustPolicy(
+                QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon
+            )
+            combo.setMinimumContentsLength(8)
+        self.seed.setMinimumWidth(60)
+        self.seed.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Fixed)
         form = QFormLayout(self)
+        # A narrow panel puts a field under its label instead of holding the window wide.
+        form.setRowWrapPolicy(QFormLayout.RowWrapPolicy.WrapLongRows)
+        form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.AllNonFixedFieldsGrow)
         form.addRow("Levels (P):", self.levels)
         form.addRow("", self.levels_problem)
         form.addRow("Verdict tolerance:", self.tolerance)

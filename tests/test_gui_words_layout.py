@@ -181,3 +181,16 @@ def test_help_menu_has_the_guide_and_about(make_window, qtbot):
     licences = dict((name, licence) for name, _, licence in shipped_licences())
     assert licences["openpyxl"] == "MIT"  # openpyxl's declared licence (its PyPI metadata)
     assert all(licences[n] != "not installed" for n in ("numpy", "scipy", "matplotlib"))
+
+
+def test_the_verdict_is_in_view_on_a_laptop_screen_and_headers_read_whole(make_window, qtbot):
+    # 1280 x 800: the level table's verdict is seen without scrolling sideways; long headers
+    # sit on two lines but read as their full words.
+    window = opened(make_window, qtbot)
+    table = window.results.table
+    verdict = table.column_names().index("Verdict")
+    assert verdict < table.column_names().index("Gap")  # beside the shortcut it judges
+    right_edge = table.columnViewportPosition(verdict) + table.columnWidth(verdict)
+    assert right_edge <= table.viewport().width()
+    shown = table.horizontalHeaderItem(table.column_names().index("Normal shortcut")).text()
+    assert shown == "Normal\nshortcut"
