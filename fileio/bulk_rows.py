@@ -53,7 +53,7 @@ def _plain_column(texts: list[str]) -> list[float | object | None]:
         if not stripped:
             out.append(_BLANK)
         elif _PLAIN.fullmatch(stripped) and abs(value := float(stripped)) <= MAX_MAGNITUDE:
-            out.append(value)
+            out.append(value + 0.0)  # as parse_number: "-0" is 0
         else:
             out.append(None)
     return out

@@ -81,7 +81,7 @@ def parse_number(text: str, *, decimal: str | None = None) -> float:
     if decimal != "," and _PLAIN.fullmatch(text):
         # Plain digits, the common case, read as the full path below would read them, at a
         # fraction of its cost (a 100,000-row paste parses 300,000 of them).
-        value = float(text)
+        value = float(text) + 0.0  # "+ 0.0": "-0" is 0, not -0.0
         if abs(value) <= MAX_MAGNITUDE:
             return value
     s = _clean(text)
@@ -112,7 +112,7 @@ def parse_number(text: str, *, decimal: str | None = None) -> float:
             f"{text.strip()!r} is beyond ±{MAX_MAGNITUDE:g}, too large to total reliably.",
             "check the unit (thousands or millions?) and enter a smaller number.",
         )
-    return -value if negative else value
+    return (-value if negative else value) + 0.0  # "(0)" is 0, not -0.0
 
 
 def parse_probability(

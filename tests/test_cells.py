@@ -140,3 +140,11 @@ def test_unknown_family_lists_the_known_ones() -> None:
     with pytest.raises(CellError, match="not a distribution") as caught:
         parse_family("Weibull")
     assert all(f in caught.value.fix for f in FAMILIES)
+
+
+@pytest.mark.parametrize("text", ["(0)", "-0", "(0.00)", "-$0", "-0k"])
+def test_a_negative_zero_is_zero(text: str) -> None:
+    # A spreadsheet shows an accounting zero as "(0)": the amount is 0, never -0.0 (which
+    # prints as "-0" in reports and JSON).
+    value = parse_number(text)
+    assert value == 0 and str(value) == "0.0"
