@@ -9,6 +9,7 @@ mode does not expose merged ranges either, so they are read from the sheet's XML
 
 from __future__ import annotations
 
+import copy
 import datetime as dt
 from collections.abc import Callable, Iterator
 from contextlib import closing, contextmanager
@@ -125,7 +126,23 @@ def read_sheet_grid(path: Path, sheet: str | None) -> tuple[list[str], Table]:
         return names, _table(_sheet(book, name, path), _sheet(formula_book, name, path), path)
 
 
+# The last workbook's sheets as tables, by (file, its modification time and size, sheet).
+# The import dialog reads one file again at each change of a column's mapping and for its
+# preview; parsing a 10,000-row sheet takes seconds, the copy of its table milliseconds.
+_last_tables: dict[tuple[str, int, int, str], Table] = {}
+
+
 def _table(ws: Any, formula_ws: Any, path: Path) -> Table:
+    stat = path.stat()
+    key = (str(path.resolve()), stat.st_mtime_ns, stat.st_size, ws.title)
+    if key not in _last_tables:
+        if any(k[:3] != key[:3] for k in _last_tables):  # another file, or this one changed
+            _last_tables.clear()
+        _last_tables[key] = _parsed_table(ws, formula_ws, path)
+    return copy.deepcopy(_last_tables[key])  # callers may change theirs
+
+
+def _parsed_table(ws: Any, formula_ws: Any, path: Path) -> Table:
     grid = _grid(ws, path)
     merged = _merged_cells(ws, path, grid)
     formula_text = _formulas(formula_ws, path)

@@ -335,3 +335,29 @@ def test_preview(office_workbook: Path) -> None:
     assert preview.mapping["High"] == "Pessimistic"
     assert preview.rows[0] == ["Demolition", "€12,500", "EUR 14,000", "19,000 EUR", "", "Site"]
     assert len(preview.rows) == 3 and preview.rows[2] == [""] * 6
+
+
+def test_a_workbook_read_again_is_the_file_as_it_is_now(tmp_path: Path) -> None:
+    # The last workbook's tables are kept between reads (the import dialog reads one file at
+    # every mapping change): a save in between, even of the same size, is read afresh, and
+    # what one read's caller changes is not seen by the next read.
+    import os
+
+    from fileio.xlsx_reader import read_workbook
+
+    def write(high: int) -> Path:
+        wb = Workbook()
+        wb.active.append(["Item", "Low", "Most likely", "High"])
+        wb.active.append(["Roof", 10, 20, high])
+        return save(wb, tmp_path / "plan.xlsx")
+
+    path = write(30)
+    first = read_estimate(path)
+    assert first.items[0].high == 30
+    table = read_workbook(path).sheets[0].table
+    table.grid[1][3] = "999"  # a caller's change to its copy
+    assert read_estimate(path).items[0].high == 30
+    stat = path.stat()
+    write(40)
+    os.utime(path, ns=(stat.st_atime_ns, stat.st_mtime_ns + 1_000_000))
+    assert read_estimate(path).items[0].high == 40
