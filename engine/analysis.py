@@ -264,7 +264,11 @@ def analyze(
     dependence = None
     seed_used = trials_used = sampling_used = None
     if chosen == "exact":
-        total: Total = exact_total_or_refusal(items, dists, tracker, shortcut)
+        found = exact_total_or_refusal(items, dists, tracker, shortcut, refuse=method == "exact")
+        if isinstance(found, str):  # two items too wide for one grid: simulated instead
+            chosen, why = "simulation", found
+    if chosen == "exact":
+        total: Total = found
         drivers = item_drivers(items, dists)
     else:
         seed_used = new_seed() if seed is None else int(seed)

@@ -17,11 +17,21 @@ def exact_total_or_refusal(
     dists: Sequence[Distribution],
     progress: Progress,
     cumulants: Cumulants,
-) -> Total:
-    """exact_total, with two items too wide for one grid turned into an InputError."""
+    *,
+    refuse: bool = True,
+) -> Total | str:
+    """exact_total; with two items too wide for one grid, an InputError naming them when
+    `refuse` (the exact method was chosen), else the reason to simulate instead."""
     try:
         return exact_total(dists, progress=progress, cumulants=cumulants)
     except TooWideForOneGrid as both:
+        if not refuse:
+            first, second = items[both.first], items[both.second]
+            return (
+                f"'{second.name}' and '{first.name}' each spread over more orders of magnitude"
+                " than one exact grid can hold with the other beside it, so the total is"
+                " simulated"
+            )
         raise too_wide_refusal(
             items, both, "narrow one of the two ranges, or choose the simulation method."
         ) from None
