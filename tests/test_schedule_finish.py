@@ -317,3 +317,37 @@ def test_a_fixed_path_inside_another_paths_range(method: str) -> None:
     assert a.total.mean == pytest.approx(102.5, abs=0.02)
     assert [r.criticality for r in a.paths.rows] == pytest.approx([0.5, 0.5], abs=0.005)
     assert float(a.total.cdf(100.0)) == pytest.approx(0.5, abs=0.001)
+
+
+def test_two_activities_too_wide_for_one_grid_are_simulated_or_refused_by_name() -> None:
+    # A claim and an outage on one path (P90/P10 = 10^4 and 2 x 10^3) beside a triangular
+    # path: Automatic simulates the finish and says why; exact refuses naming both; with a
+    # correlation the "if independent" finish is simulated too instead of an internal error.
+    # Reference: P(finish <= x) = F_A(x) F_B(x) (David & Nagaraja), F_A from 4M numpy draws
+    # of the two lognormals, F_B the triangular CDF (scipy.stats.triang).
+    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
+    items = [
+        LineItem("Claim", high=1e4, paths=("A",), row=2, **wide),
+        LineItem("Outage", high=2e3, paths=("A",), row=3, **wide),
+        LineItem("Works", "triangular", 900, 1000, 1300, paths=("B",), row=4),
+    ]
+    a = analyze(Estimate(items), trials=400_000, seed=6, levels=(50, 80))
+    assert a.method == "simulation" and "Claim" in a.method_reason
+    z = stats.norm.ppf(0.9)
+    rng = np.random.default_rng(12)
+    path_a = sum(
+        rng.lognormal(math.log(h) / 2, math.log(h) / (2 * z), 4_000_000) for h in (1e4, 2e3)
+    )
+    works = stats.triang(c=100 / 400, loc=900, scale=400)
+    for row in a.levels:
+        q = row.level / 100
+        f = np.mean(path_a <= row.value) * works.cdf(row.value)
+        assert abs(f - q) < 4 * math.sqrt(q * (1 - q) / 400_000) + 4 * math.sqrt(q / 4_000_000)
+    with pytest.raises(InputError) as caught:
+        analyze(Estimate(items), method="exact")
+    (problem,) = caught.value.problems
+    assert problem.row == 3 and "Claim" in problem.message and "simulation" in problem.fix
+    linked = analyze(
+        Estimate(items, correlation=CorrelationSpec(default=0.3)), trials=20_000, seed=6
+    )
+    assert all(r.independent_value is not None for r in linked.levels)

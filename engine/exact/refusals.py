@@ -26,24 +26,26 @@ def exact_total_or_refusal(
         return exact_total(dists, progress=progress, cumulants=cumulants)
     except TooWideForOneGrid as both:
         if not refuse:
-            first, second = items[both.first], items[both.second]
-            return (
-                f"'{second.name}' and '{first.name}' each spread over more orders of magnitude"
-                " than one exact grid can hold with the other beside it, so the total is"
-                " simulated"
-            )
+            return too_wide_words(items, both) + ", so the total is simulated"
         raise too_wide_refusal(
             items, both, "narrow one of the two ranges, or choose the simulation method."
         ) from None
 
 
-def too_wide_refusal(items: Sequence[LineItem], both: TooWideForOneGrid, fix: str) -> InputError:
+def too_wide_words(items: Sequence[LineItem], both: TooWideForOneGrid) -> str:
     first, second = items[both.first], items[both.second]
+    return (
+        f"'{second.name}' and '{first.name}' each spread over more orders of magnitude than"
+        " one exact grid can hold with the other beside it"
+    )
+
+
+def too_wide_refusal(items: Sequence[LineItem], both: TooWideForOneGrid, fix: str) -> InputError:
+    second = items[both.second]
     return InputError(
         [
             Problem(
-                f"'{second.name}' and '{first.name}' each spread over more orders of"
-                " magnitude than one exact grid can hold with the other beside it.",
+                too_wide_words(items, both) + ".",
                 fix,
                 item=second.name,
                 row=second.row,

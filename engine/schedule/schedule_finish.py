@@ -19,6 +19,8 @@ from engine.dependence.correlation import (
     measured_items,
 )
 from engine.exact.convolution import cumulants_of, exact_total
+from engine.exact.grid_plan import TooWideForOneGrid
+from engine.exact.refusals import too_wide_refusal, too_wide_words
 from engine.exact.totals import Total
 from engine.families.distributions import Distribution
 from engine.items import InputError, LineItem, Problem
@@ -67,9 +69,26 @@ def schedule_finish(
             ]
         )
     dependence = None
-    if aims is not None or shared or method == "simulation":
+    wide = ""  # why an independent schedule is simulated: two activities too wide
+    if not (aims is not None or shared or method == "simulation"):
+        try:
+            finish = _exact_finish(path_dists, paths, progress)
+        except TooWideForOneGrid as both:
+            if method == "exact":
+                raise too_wide_refusal(
+                    items, both, "narrow one of the two ranges, or choose the simulation method."
+                ) from None
+            wide = too_wide_words(items, both)
+        else:
+            why = (
+                f"{intro}; the paths share no activity and are independent, so the finish is "
+                "exact: the product of the paths' exact distributions"
+            )
+    if aims is not None or shared or method == "simulation" or wide:
         if method == "simulation":
             why = "simulation was chosen in the settings"
+        elif wide:
+            why = wide
         elif aims is not None:
             why = "activities are correlated (induced by " + (
                 "block factors)" if aims.model is not None else "Iman–Conover)"
@@ -89,29 +108,37 @@ def schedule_finish(
                 observe=stats,
                 progress=progress.part(0, 0.8),
             )
-            # The same paths with every coefficient 0: exact unless activities are shared.
-            independent = (
-                simulated_finish(dists, paths, **run, progress=progress.part(0.8, 0.2)).total
-                if shared
-                else latest_of(
-                    [exact_total(d, progress=progress.silent()) for d in path_dists]
-                ).total
-            )
+            # The same paths with every coefficient 0: exact unless activities are shared
+            # or two are too wide for one grid, simulated then.
+            try:
+                independent = None if shared else _exact_finish(path_dists, paths).total
+            except TooWideForOneGrid:
+                independent = None
+            if independent is None:
+                again = progress.part(0.8, 0.2)
+                independent = simulated_finish(dists, paths, **run, progress=again).total
             dependence = path_dependence(aims, stats, finish, independent, dists, paths)
         why = f"{intro}, simulated with the latest path taken in each trial: {why}"
-    else:
-        totals = []
-        for k, on_path in enumerate(path_dists):
-            part = progress.part(k / len(paths), 1 / len(paths))
-            totals.append(exact_total(on_path, progress=part))
-        finish = latest_of(totals)
-        why = (
-            f"{intro}; the paths share no activity and are independent, so the finish is "
-            "exact: the product of the paths' exact distributions"
-        )
     cumulants = [cumulants_of(d) for d in path_dists]
     section = paths_section(finish, paths, cumulants, items, levels, shared)
     return finish, section, why, dependence
+
+
+def _exact_finish(
+    path_dists: Sequence[Sequence[Distribution]],
+    paths: Sequence[SchedulePath],
+    progress: Progress | None = None,
+) -> Finish:
+    """The product of the paths' exact CDFs; TooWideForOneGrid names items of the schedule."""
+    totals = []
+    for k, on_path in enumerate(path_dists):
+        part = None if progress is None else progress.part(k / len(paths), 1 / len(paths))
+        try:
+            totals.append(exact_total(on_path, progress=part))
+        except TooWideForOneGrid as both:
+            members = list(paths[k].members)
+            raise TooWideForOneGrid(members[both.first], members[both.second]) from None
+    return latest_of(totals)
 
 
 def path_dependence(
