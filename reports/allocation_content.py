@@ -17,12 +17,7 @@ RULE = (
 
 
 def method_line(allocation: Allocation) -> str:
-    if allocation.method == "exact":
-        return "Computed exactly (independent items, numerical convolution)."
-    return (
-        "Estimated from the simulation's trials near each level (correlated items);"
-        " standard errors by deleting one replicate at a time."
-    )
+    return allocation.how
 
 
 def confidence_table(allocation: Allocation) -> Table:

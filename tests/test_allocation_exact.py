@@ -199,9 +199,12 @@ def test_thousands_of_items_stay_exact_and_add_up() -> None:
     )
 
 
-def test_a_heavy_tail_coarsens_the_grid_and_still_adds_up() -> None:
-    # P90/P10 = 10,000: the total spreads over millions of grid steps (README, heavy tails);
-    # the allocation bounds its lattice and the shares still add up to the contingency.
+def test_a_heavy_tail_no_grid_resolves_is_shared_from_trials_and_matches_a_reference() -> None:
+    # P90/P10 = 10,000: a grid fine enough for the fit-out would hold the claim's tail over
+    # billions of steps, and a coarse one put the fit-out's share below its own low end
+    # (E[fit-out | T] < 40, read as -918 of its base before this was caught). The shares are
+    # read from trials instead (with standard errors) and still add up to the contingency.
+    # Reference: 4 million numpy draws, local-linear in a window around t_q.
     items = [
         LineItem("Fit-out", "triangular", low=40.0, most_likely=50.0, high=90.0),
         LineItem("Claim", "lognormal", low=1.0, high=1e4, low_pct=10, high_pct=90),
@@ -209,10 +212,46 @@ def test_a_heavy_tail_coarsens_the_grid_and_still_adds_up() -> None:
     ]
     est = Estimate(items=items)
     alloc = allocate(est, analyze(est, method="exact", levels=(50, 90, 99)))
+    assert alloc.method == "simulation"
+    rng = np.random.default_rng(20261202)
+    n = 4_000_000
+    fit_out = rng.triangular(40, 50, 90, n)
+    sigma = math.log(1e4) / (2 * stats.norm.ppf(0.9))  # lognormal from P10 = 1, P90 = 1e4
+    claim = rng.lognormal(math.log(1e4) / 2, sigma, n)
+    flood = np.where(rng.random(n) < 0.1, 300.0, 0.0)
+    total = fit_out + claim + flood
     for row in alloc.levels:
         assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * abs(row.total))
+        h = 0.01 * row.total
+        for k, x in ((0, fit_out), (2, flood)):
+            want, se = _local_linear(x, total, row.total, h)
+            got = row.shares[k] + alloc.bases[k]
+            assert abs(got - want) <= 4 * math.hypot(se, row.standard_errors[k]), (k, got, want)
+        assert 40 <= row.shares[0] + alloc.bases[0] <= 90  # within the fit-out's own range
     # the far tail is the claim's
     assert alloc.at(99).shares[1] > 0.99 * alloc.at(99).contingency
+
+
+def test_a_moderate_tail_stays_exact() -> None:
+    # P90/P10 = 10 beside three triangular items: the grid resolves the body, the shares
+    # stay exact (no standard errors) and match a 4M-draw numpy reference.
+    items = [LineItem("Claim", "lognormal", low=100, high=1000, low_pct=10, high_pct=90)] + [
+        LineItem(f"Works {k}", "triangular", low=900, most_likely=1000, high=1300) for k in range(3)
+    ]
+    est = Estimate(items=items)
+    alloc = allocate(est, analyze(est, method="exact", levels=(50, 90)))
+    assert alloc.method == "exact"
+    rng = np.random.default_rng(7)
+    n = 4_000_000
+    sigma = math.log(10) / (2 * stats.norm.ppf(0.9))
+    columns = [rng.lognormal(math.log(math.sqrt(1e5)), sigma, n)] + [
+        rng.triangular(900, 1000, 1300, n) for _ in range(3)
+    ]
+    total = sum(columns)
+    for row in alloc.levels:
+        for k, x in enumerate(columns):
+            want, se = _local_linear(x, total, row.total, 0.01 * total.std())
+            assert abs(row.shares[k] + alloc.bases[k] - want) < 4 * se + 0.002 * total.std()
 
 
 def test_allocation_and_comparison_stay_in_the_pure_engine() -> None:

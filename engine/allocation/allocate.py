@@ -18,7 +18,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from engine.allocation.confidence import Confidence, confidence_of
-from engine.allocation.exact_shares import conditional_means
+from engine.allocation.exact_shares import GridTooCoarse, conditional_means
 from engine.allocation.naive import naive_shares
 from engine.allocation.risk_ranking import RankedRisk, rank_risk_events
 from engine.allocation.simulated_shares import jackknife_error, simulated_means, window_edges
@@ -27,9 +27,14 @@ from engine.progress import Progress
 from engine.validation import base_value, build_distribution
 
 UNGROUPED = "(no group)"
+# Trials and seed of the shares of an exact analysis read from a simulation (a heavy tail
+# that no exact grid resolves): the standard error column says what they cost in precision.
+OWN_TRIALS = 400_000
+OWN_SEED = 1
 # A difference this large, in points of the contingency, changes where money is held
 # (common practice, no source).
 MATTERS = 0.10
+NORMAL_P90 = 1.2815515655446004  # the standard normal's P90 (scipy.stats.norm.ppf(0.9))
 
 if TYPE_CHECKING:  # the analysis is taken, never made, here: no import of analysis.py
     from engine.analysis import Analysis
@@ -91,6 +96,7 @@ class Allocation:
     risk_events: list[RankedRisk] = field(default_factory=list)
     compute_seconds: float = 0.0
     note: str = ""  # why there are no shares (a schedule's finish), else empty
+    how: str = ""  # how the shares were computed, in words
 
     def at(self, level: float) -> LevelAllocation:
         return min(self.levels, key=lambda row: abs(row.level - level))
@@ -98,6 +104,7 @@ class Allocation:
     def to_dict(self) -> dict[str, Any]:
         return {
             "method": self.method,
+            "how": self.how,
             "rule": "E[item | total = level] - item's base value (Euler allocation)",
             "base_estimate": self.base_estimate,
             "base_confidence": self.base_confidence.to_dict(),
@@ -108,6 +115,13 @@ class Allocation:
         }
 
 
+HOW = {
+    "exact": "Computed exactly (independent items, numerical convolution).",
+    "simulation": (
+        "Estimated from the simulation's trials near each level (correlated items);"
+        " standard errors by deleting one replicate at a time."
+    ),
+}
 NOT_A_SUM = (
     "The contingency is not shared out among the activities of a schedule of parallel paths: "
     "the finish is the latest path, not the sum of the activities, so their shares would not "
@@ -144,20 +158,32 @@ def allocate(
     levels = [row.level for row in analysis.levels] if shared else []
     errors = group_jack = None
     if not shared:
-        method = "none"
+        method, how = "none", ""
     elif analysis.dependence is None:
-        method = "exact"
-        means = conditional_means(dists, totals, progress=tracker)
+        method, how = "exact", HOW["exact"]
+        try:
+            spread = central_spread(analysis.total)
+            means = conditional_means(dists, totals, spread=spread, progress=tracker)
+        except GridTooCoarse:  # a heavy tail leaves the body unresolved: read trials instead
+            method, how = (
+                "simulation",
+                (
+                    f"Estimated from {analysis.trials or OWN_TRIALS:,} simulated trials near each"
+                    " level: a heavy tail leaves no exact grid fine enough for the body of the"
+                    " total; standard errors by deleting one replicate at a time."
+                ),
+            )
     else:
-        method = "simulation"
-        assert analysis.seed is not None and analysis.trials is not None
+        method, how = "simulation", HOW["simulation"]
+    if method == "simulation":
+        # The analysis's own trials when it was simulated; else (exact) trials of their own.
         found = simulated_means(
             dists,
             analysis.dependence,
             totals,
             window_edges(analysis.total, levels),
-            trials=analysis.trials,
-            seed=analysis.seed,
+            trials=analysis.trials or OWN_TRIALS,
+            seed=OWN_SEED if analysis.seed is None else analysis.seed,
             sampling=analysis.sampling or "lhs",
             progress=tracker,
         )
@@ -204,7 +230,15 @@ def allocate(
         risk_events=rank_risk_events(items, dists, shares_by_level),
         compute_seconds=time.perf_counter() - started,
         note="" if shared else NOT_A_SUM,
+        how=how,
     )
+
+
+def central_spread(total) -> float:
+    """(P90 - P10) / 2.563 of the total: its sd for a normal, the body's width for a heavy
+    tail (whose sd the far tail makes)."""
+    p10, p90 = total.ppf(np.array([0.1, 0.9]))
+    return float(p90 - p10) / (2 * NORMAL_P90)
 
 
 def group_standard_errors(groups: Sequence[str], leave_one_out: np.ndarray) -> dict[str, float]:

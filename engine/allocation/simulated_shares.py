@@ -21,6 +21,7 @@ from engine.exact.totals import SampleTotal
 from engine.families.distributions import Distribution
 from engine.progress import Progress
 from engine.simulation.factor_pairing import fewest_per_replicate, pairing_for
+from engine.simulation.independent_pairing import IndependentPairing
 from engine.simulation.replicates import simulate
 from engine.threads import PARTS
 
@@ -82,7 +83,7 @@ def local_linear(s0, s1, s2, a, b) -> np.ndarray:
 
 def simulated_means(
     dists: Sequence[Distribution],
-    aims: Targets,
+    aims: Targets | None,  # None: independent items
     totals: Sequence[float],
     window_edges: tuple[Sequence[float], Sequence[float]],
     *,
@@ -101,9 +102,9 @@ def simulated_means(
         trials=trials,
         seed=seed,
         sampling=sampling,
-        pairing=pairing_for(aims),
+        pairing=IndependentPairing() if aims is None else pairing_for(aims),
         observe=sums,
-        min_per_replicate=fewest_per_replicate(aims, len(dists)),
+        min_per_replicate=0 if aims is None else fewest_per_replicate(aims, len(dists)),
         progress=progress,
     )
     s0, s1, s2, a, b, counts = sums.stacked()  # (reps, totals) and (reps, items, totals)
