@@ -10,6 +10,7 @@ from charts.style import (
     FAIL,
     FONT_SIZE,
     REFERENCE,
+    TEXT,
     TOTAL,
     axis_label,
     elide_middle,
@@ -18,21 +19,22 @@ from charts.style import (
     style_axes,
     title_room,
 )
+from charts.view_range import body_range, cut_note
 from engine import LineItem
 from engine.families.distributions import Distribution
-
-SHOWN = (0.001, 0.999)
 
 
 def draw_item_preview(ax: Axes, item: LineItem, dist: Distribution, unit: str = "") -> None:
     """Density line for the continuous part, stems for point masses (a risk event's zero,
     discrete values), and the typed low / most likely / high marked."""
     atoms, continuous = dist.parts()
+    views: list[tuple[float, float, float | None]] = []
     if continuous:
-        lo, hi = (float(v) for v in dist.ppf(np.array(SHOWN)))
-        parts_lo = min(p.ppf(SHOWN[0]) for _, p in continuous)
-        parts_hi = max(p.ppf(SHOWN[1]) for _, p in continuous)
-        x = np.linspace(min(lo, float(parts_lo)), max(hi, float(parts_hi)), 400)
+        typed = [v for v in (item.low, item.most_likely, item.high) if v is not None]
+        marks = typed + [v for v, _ in atoms]
+        views = [body_range(p.ppf, marks) for _, p in continuous]
+        lo, hi = min(v[0] for v in views), max(v[1] for v in views)
+        x = np.linspace(lo, hi, 400)
         (line,) = ax.plot(x, dist.pdf(x), color=TOTAL.color, lw=TOTAL.linewidth)
         line.set(label="Density", gid="density")
         ax.fill_between(x, dist.pdf(x), color=TOTAL.color, alpha=0.15, lw=0)
@@ -64,6 +66,12 @@ def draw_item_preview(ax: Axes, item: LineItem, dist: Distribution, unit: str = 
     style_axes(ax, elide_middle(item.name, title_room(ax) - len(said)) + said)
     money_axis(ax.xaxis)
     ax.set_xlabel(axis_label("Value", unit), fontsize=FONT_SIZE)
+    note = cut_note(max((v[2] for v in views if v[2] is not None), default=None), unit)
+    if note:
+        ax.text(
+            0.99, 0.02, note, transform=ax.transAxes, ha="right", fontsize=FONT_SIZE - 1,
+            color=TEXT, gid="tail-cut",
+        )  # fmt: skip
     ax.set_ylim(bottom=0)
     ax.set_ylabel("Density" if continuous else "Probability", fontsize=FONT_SIZE)
     if continuous:  # a density per unit of money has no number worth reading

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 
+from engine.shortcut.verdict import LARGEST_SHAPE, shape_text
 from engine.shortcut.verdict import compact as _compact
 from engine.shortcut.verdict import count as count
 
@@ -72,7 +73,10 @@ def coefficient(r: float | None, sign: bool = False) -> str:
 
 
 def statistic(x: float, decimals: int = 2) -> str:
-    """A unitless statistic (skewness, kurtosis, a distance): fixed decimals."""
+    """A unitless statistic (skewness, kurtosis, a distance): fixed decimals; past 1,000 a
+    far tail makes it and its digits say nothing ('over 1,000')."""
+    if abs(x) >= LARGEST_SHAPE:
+        return shape_text(x)
     return f"{_rounded(x, decimals):,.{decimals}f}"
 
 

@@ -20,12 +20,11 @@ from charts.style import (
     money_axis,
     style_axes,
 )
+from charts.view_range import SHOWN, body_range, cut_note
 from engine import Analysis
 from engine.exact.totals import GridTotal, SampleTotal
 from engine.exact.wide_item import WideItemTotal
 
-# Central range drawn: past these the curves are flat and only squeeze the levels together.
-SHOWN = (0.0005, 0.9995)
 # The window's tab and the chart say the same words.
 SPREAD_TITLE = "Spread of the total"
 MAX_POINTS = 800  # a grid this fine is indistinguishable on screen and keeps the PDF small
@@ -56,6 +55,7 @@ def draw_s_curve(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     (line,) = ax.plot(normal, 100 * q, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
     line.set(label="Normal shortcut", gid="normal")
     _mark_levels_on_curves(ax, analysis)
+    _view(ax, analysis, unit)
     style_axes(ax, "S-curve of the total")
     money_axis(ax.xaxis)
     ax.set_xlabel(axis_label("Total", unit), fontsize=FONT_SIZE)
@@ -101,9 +101,9 @@ def _mark_levels_on_curves(ax: Axes, analysis: Analysis) -> None:
 def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     """Exact totals as a line, simulated ones as a histogram; the normal curve over both."""
     total = analysis.total
-    lo, hi = (float(v) for v in total.ppf(np.array(SHOWN)))
+    lo, hi = _view(ax, analysis, unit)
     if isinstance(total, SampleTotal):
-        edges, density = total.histogram()
+        edges, density = total.histogram(span=(lo, hi))
         ax.stairs(
             density,
             edges,
@@ -136,7 +136,7 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
         )
     mean, sd = shortcut_moments(analysis)
     if sd > 0:
-        x = np.linspace(min(lo, mean - 4 * sd), max(hi, mean + 4 * sd), 400)
+        x = np.linspace(lo, hi, 400)
         z = (x - mean) / sd
         pdf = np.exp(-0.5 * z * z) / (sd * np.sqrt(2 * np.pi))
         (line,) = ax.plot(x, pdf, color=NORMAL.color, ls=NORMAL.linestyle, lw=NORMAL.linewidth)
@@ -157,6 +157,21 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
     ax.set_ylim(bottom=0)
     ax.tick_params(labelleft=False)
     legend_above(ax)
+
+
+def _view(ax: Axes, analysis: Analysis, unit: str) -> tuple[float, float]:
+    """Fix the x range to the body of the total and its levels; a note if a tail is cut."""
+    left, right, cut = body_range(analysis.total.ppf, (r.value for r in analysis.levels))
+    if right > left:
+        pad = 0.02 * (right - left)
+        ax.set_xlim(left - pad, right + pad)
+    note = cut_note(cut, unit)
+    if note:
+        ax.text(
+            0.99, 0.02, note, transform=ax.transAxes, ha="right", fontsize=FONT_SIZE - 1,
+            color=TEXT, gid="tail-cut",
+        )  # fmt: skip
+    return left, right
 
 
 def _coarsened(total: GridTotal, lo: float, hi: float) -> tuple[np.ndarray, np.ndarray]:

@@ -165,3 +165,30 @@ def test_item_preview_draws_point_masses_as_stems():
     stems = by_gid(ax, "point-masses")
     assert list(stems.get_xdata()) == [100, 150, 300]
     assert list(stems.get_ydata()) == pytest.approx([0.2, 0.5, 0.3])
+
+
+def test_a_heavy_tail_is_cut_from_the_view_and_the_levels_stay_readable():
+    # A claim with P90/P10 = 10^4: its P99.95 is over a thousand times its P90. The spread
+    # chart stops a few P10-P90 widths past the median, keeps every level in view, draws
+    # the histogram over that view (not over the whole tail) and says
+    # where the cut tail goes; a plain estimate is drawn whole, with no such note.
+    wide = LineItem("Claim", "lognormal", 1.0, None, 1e4, low_pct=10, high_pct=90)
+    works = LineItem("Works", "triangular", 900.0, 1000.0, 1300.0)
+    from engine import Estimate
+
+    analysis = analyze(Estimate([wide, works]), method="simulation", trials=20_000, seed=3)
+    _, ax = axes()
+    draw_density(ax, analysis)
+    left, right = ax.get_xlim()
+    p9995 = float(analysis.total.ppf(np.array([0.9995]))[0])
+    assert right < p9995 / 100 and all(left <= r.value <= right for r in analysis.levels)
+    histogram = next(a for a in ax.patches if isinstance(a, StepPatch))
+    edges = histogram.get_data().edges
+    assert left <= edges[0] and edges[-1] <= right  # the bins share out the view alone
+    assert "P99.95" in by_gid(ax, "tail-cut").get_text()
+    _, ax = axes()
+    draw_density(ax, analyze(uniforms(3), method="exact", levels=LEVELS))
+    assert not [a for a in ax.get_children() if a.get_gid() == "tail-cut"]
+    _, ax = axes()
+    draw_item_preview(ax, wide, build_distribution(wide))
+    assert ax.get_xlim()[1] < 1e5 and "P99.95" in by_gid(ax, "tail-cut").get_text()

@@ -225,8 +225,10 @@ class SampleTotal(Total):
         se = per_rep.std(axis=1, ddof=1) / math.sqrt(self.replicates)
         return se.reshape(q.shape)
 
-    def histogram(self, bins: int = 80) -> tuple[np.ndarray, np.ndarray]:
-        """Bin edges and densities over the central 99.9% of the trials, for charts."""
-        lo, hi = np.quantile(self.sorted_trials, [0.0005, 0.9995])
+    def histogram(
+        self, bins: int = 80, span: tuple[float, float] | None = None
+    ) -> tuple[np.ndarray, np.ndarray]:
+        """Bin edges and densities over `span`, else the central 99.9% of the trials."""
+        lo, hi = span or np.quantile(self.sorted_trials, [0.0005, 0.9995])
         counts, edges = np.histogram(self.sorted_trials, bins=bins, range=(lo, hi))
         return edges, counts / (self.trials * np.diff(edges))

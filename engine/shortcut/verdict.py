@@ -23,6 +23,17 @@ RARE_EVENT = 0.2  # probability of occurrence below which an event counts as rar
 NOTABLE_SPREAD_CHANGE = 0.05  # correlation moves the total's sd by 5% (common practice, no source)
 
 
+# Past this a skewness or kurtosis says only that a far tail makes it: its digits are noise.
+LARGEST_SHAPE = 1000.0
+
+
+def shape_text(x: float) -> str:
+    """A skewness or excess kurtosis in words: two decimals, or 'over 1,000'."""
+    if abs(x) < LARGEST_SHAPE:
+        return f"{x:.2f}"
+    return f"over {LARGEST_SHAPE:,.0f}" if x > 0 else f"below -{LARGEST_SHAPE:,.0f}"
+
+
 def compact(x: float) -> str:
     """12 300 -> '12.3 k', 4 100 000 -> '4.1 M': how estimators say sums aloud."""
     a = abs(x)
@@ -71,13 +82,13 @@ def reasons_for(
         side = "right" if diag.skewness > 0 else "left"
         skewers = [d for d in drivers if d.skew_share > 0.15] if diag.skewness > 0 else []
         named = ", ".join(f"'{d.name}'" for d in sorted(skewers, key=lambda d: -d.skew_share)[:3])
-        text = f"the total is skewed to the {side} (skewness {diag.skewness:.2f})"
+        text = f"the total is skewed to the {side} (skewness {shape_text(diag.skewness)})"
         if named:
             text += f", driven by {named}"
         reasons.append(text)
     if diag.excess_kurtosis >= NOTABLE_KURTOSIS:
         reasons.append(
-            f"the total has heavy tails (excess kurtosis {diag.excess_kurtosis:.2f}), "
+            f"the total has heavy tails (excess kurtosis {shape_text(diag.excess_kurtosis)}), "
             "more extreme outcomes than the normal allows"
         )
     if not diag.cornish_fisher_monotone:
