@@ -88,6 +88,24 @@ def column_lines(summary: dict[str, Any]) -> list[str]:
     return lines
 
 
+def hidden_row_lines(summary: dict[str, Any]) -> list[str]:
+    """Rows hidden in the sheet but read as items: a hidden row may be a superseded line or
+    an option set aside, which the sheet's own totals leave out; the user should know."""
+    hidden = summary.get("rows_hidden") or []
+    if not hidden:
+        return []
+    by_sheet: dict[str | None, list[int]] = {}
+    for entry in hidden:
+        sheet, row = (entry["sheet"], entry["row"]) if isinstance(entry, dict) else (None, entry)
+        by_sheet.setdefault(sheet, []).append(row)
+    return [
+        f"{_count(len(rows), 'row')} hidden in {f'sheet {sheet!r}' if sheet else 'the sheet'}"
+        f" read as items: {', '.join(map(str, rows[:20]))}{' ...' if len(rows) > 20 else ''}"
+        " (unhide them to check; delete any that are not part of this estimate)"
+        for sheet, rows in by_sheet.items()
+    ]
+
+
 def summary_lines(summary: dict[str, Any]) -> list[str]:
     """Every line of the summary, in the order `check` prints them."""
     several = len(summary.get("sheets_read") or []) > 1
@@ -95,6 +113,7 @@ def summary_lines(summary: dict[str, Any]) -> list[str]:
         sheet_lines(summary)
         + count_lines(summary)
         + column_lines(summary)
+        + hidden_row_lines(summary)
         + [skipped_row_line(e, several) for e in summary.get("rows_skipped", [])]
     )
 
@@ -103,7 +122,7 @@ def brief_lines(summary: dict[str, Any]) -> list[str]:
     """What a report's terminal summary says about the import: the sheets, and how many
     subtotal rows were left out (`check` lists them)."""
     left_out = sum(1 for e in summary.get("rows_skipped", []) if e.get("subtotal"))
-    lines = sheet_lines(summary)
+    lines = sheet_lines(summary) + hidden_row_lines(summary)
     if left_out:
         lines.append(
             f"{left_out} subtotal row{'s' if left_out != 1 else ''} left out of the items; "

@@ -187,6 +187,11 @@ def _combined(parts: list[Estimate], names: list[str]) -> Estimate:
         rows_read=sum(p.summary["rows_read"] for p in parts),
         items_taken=len(items),
         rows_skipped=skipped,
+        rows_hidden=[
+            {"sheet": name, "row": row}
+            for name, p in zip(names, parts, strict=True)
+            for row in p.summary.get("rows_hidden", [])
+        ],
         drafts=sum(p.summary["drafts"] for p in parts),
         by_sheet=[
             {

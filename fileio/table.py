@@ -68,6 +68,8 @@ class Table:
     read_with: frozenset[str] = frozenset()
     # Cells covered by a merge (not its top-left cell) -> (top-left cell, range text).
     merged: dict[tuple[int, int], tuple[tuple[int, int], str]] = field(default_factory=dict)
+    # Rows (0-based) the user hid in the sheet: read like the rest, and said so.
+    hidden_rows: frozenset[int] = frozenset()
     # Whether messages name cells as a spreadsheet does ("C5"); CSV rows are named by number.
     cell_references: bool = False
     notes: dict[str, Any] = field(default_factory=dict)
@@ -184,6 +186,9 @@ def estimate_from_table(
         "rows_read": last - header.index,
         "items_taken": len(items),
         "rows_skipped": skipped,
+        "rows_hidden": [
+            i.row for i in items if i.row is not None and i.row - 1 in table.hidden_rows
+        ],
         "drafts": sum(1 for i in items if i.read_problems or item_problems(i)),
         "mapping": dict(header.mapping),
         "columns_ignored": _ignored(header, grid, last),

@@ -48,6 +48,7 @@ _NOT_LINE_ITEMS = frozenset(
     }
 )
 _MERGE_TAG = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}mergeCell"
+_ROW_TAG = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}row"
 
 
 @dataclass
@@ -144,7 +145,7 @@ def _table(ws: Any, formula_ws: Any, path: Path) -> Table:
 
 def _parsed_table(ws: Any, formula_ws: Any, path: Path) -> Table:
     grid = _grid(ws, path)
-    merged = _merged_cells(ws, path, grid)
+    merged, hidden_rows = _sheet_layout(ws, path, grid)
     formula_text = _formulas(formula_ws, path)
     formulas = _without_results(formula_text, grid)
     for r, c in formulas:
@@ -156,6 +157,7 @@ def _parsed_table(ws: Any, formula_ws: Any, path: Path) -> Table:
         formulas=formulas,
         formula_text=formula_text,
         merged=merged,
+        hidden_rows=hidden_rows,
         cell_references=True,
     )
 
@@ -308,10 +310,11 @@ def _formula_text(cell: Any) -> str:
     return str(getattr(cell.value, "text", cell.value) or "")
 
 
-def _merged_cells(
+def _sheet_layout(
     ws: Any, path: Path, grid: list[list[str]]
-) -> dict[tuple[int, int], tuple[tuple[int, int], str]]:
-    """Covered cell (0-based) -> (top-left cell, range text), from the sheet's mergeCell list.
+) -> tuple[dict[tuple[int, int], tuple[tuple[int, int], str]], frozenset[int]]:
+    """From the sheet's XML: each covered cell (0-based) -> (top-left cell, range text) of
+    its merge, and the rows (0-based) the user hid.
 
     Only cells inside the filled grid are listed: a merge may span a whole sheet
     (17 billion cells), and cells beyond the data change nothing.
@@ -321,12 +324,16 @@ def _merged_cells(
 
     rows, columns = len(grid), max((len(r) for r in grid), default=0)
     covered = {}
+    hidden = set()
     try:
         # ReadOnlyWorksheet keeps its XML source private; it is the only way to the merges
-        # without loading the whole workbook into memory.
+        # and hidden rows without loading the whole workbook into memory.
         with ws._get_source() as source:
             for _, element in iterparse(source):
-                if element.tag == _MERGE_TAG:
+                if element.tag == _ROW_TAG:
+                    if element.get("hidden") in ("1", "true") and element.get("r"):
+                        hidden.add(int(element.get("r")) - 1)
+                elif element.tag == _MERGE_TAG:
                     span = element.get("ref", "")
                     min_col, min_row, max_col, max_row = range_boundaries(span)
                     for r in range(min_row - 1, min(max_row, rows)):
@@ -336,4 +343,4 @@ def _merged_cells(
                 element.clear()
     except Exception as why:  # a damaged sheet or a malformed range
         raise _damaged(path, why, ws.title) from why
-    return covered
+    return covered, frozenset(r for r in hidden if r < rows)

@@ -27,7 +27,7 @@ from PySide6.QtWidgets import (
 )
 
 from engine import COLUMNS, Estimate
-from fileio.import_summary import column_lines, sheet_lines, skipped_row_line
+from fileio.import_summary import column_lines, hidden_row_lines, sheet_lines, skipped_row_line
 
 MAPPED_COLUMNS = (*COLUMNS, "Shape")
 # The form's labels; the PERT shape is the beta weight on the most likely value.
@@ -229,7 +229,7 @@ class ImportDialog(QDialog):
             f"{len(estimate.items)} items ({drafts} with problems, kept as marked drafts), "
             f"{len(summary.get('rows_skipped', []))} rows left out."
         )
-        lines = sheet_lines(summary) + column_lines(summary)
+        lines = sheet_lines(summary) + column_lines(summary) + hidden_row_lines(summary)
         self.summary.setText("\n".join(line[0].upper() + line[1:] for line in lines))
         ok.setEnabled(bool(estimate.items))
 

@@ -442,3 +442,34 @@ def test_line_separators_inside_a_cell_do_not_split_its_row(tmp_path: Path) -> N
     estimate = read_estimate(path)
     assert [(i.name, i.high) for i in estimate.items] == [("Piling\u2028(bored)", 3), ("Frame", 6)]
     assert estimate.problems == []
+
+
+def test_rows_hidden_in_a_sheet_are_read_and_said(tmp_path: Path, capsys) -> None:
+    # A hidden row may be a superseded line or an option set aside: it is read like any
+    # other (nothing dropped silently) and `check`, the report summary and the JSON name it.
+    book = Workbook()
+    plan = book.active
+    plan.title = "Plan"
+    plan.append(["Item", "Low", "Most likely", "High"])
+    for k in range(4):
+        plan.append([f"Line {k}", 10 + k, 12 + k, 20 + k])
+    plan.row_dimensions[3].hidden = True  # sheet row 3: "Line 1"
+    risks = book.create_sheet("Risks")
+    risks.append(["Risk", "Probability", "Low", "Most likely", "High"])
+    risks.append(["Flood", "10%", 5, 8, 20])
+    risks.append(["Old risk", "5%", 1, 2, 3])
+    risks.row_dimensions[3].hidden = True
+    path = tmp_path / "hidden.xlsx"
+    book.save(path)
+    estimate = read_estimate(path)
+    assert len(estimate.items) == 6  # hidden rows are items, as the values say
+    assert estimate.summary["rows_hidden"] == [
+        {"sheet": "Plan", "row": 3},
+        {"sheet": "Risks", "row": 3},
+    ]
+    assert main(["check", str(path)]) == 0
+    printed = capsys.readouterr().out
+    assert "1 row hidden in sheet 'Plan' read as items: 3" in printed
+    assert "1 row hidden in sheet 'Risks' read as items: 3" in printed
+    one_sheet = read_estimate(path, sheet=["Plan"])
+    assert one_sheet.summary["rows_hidden"] == [{"sheet": "Plan", "row": 3}]
