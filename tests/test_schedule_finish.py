@@ -351,3 +351,20 @@ def test_two_activities_too_wide_for_one_grid_are_simulated_or_refused_by_name()
         Estimate(items, correlation=CorrelationSpec(default=0.3)), trials=20_000, seed=6
     )
     assert all(r.independent_value is not None for r in linked.levels)
+
+
+def test_a_path_holding_one_item_too_wide_for_the_grid_is_simulated_or_refused() -> None:
+    # One outage (P90/P10 = 10^5) on a path: the path's total keeps it off the grid, but the
+    # finish's grid would evaluate that path's cdf at 262,144 points (minutes). Automatic
+    # simulates the finish and says which item; exact refuses naming it and the way out.
+    items = [
+        LineItem("Outage", "lognormal", 1.0, None, 1e5, low_pct=10, high_pct=90, paths=("A",)),
+        LineItem("Tie-in", "triangular", 0.0, 1.0, 2.0, paths=("A",)),
+        LineItem("Works", "triangular", 90.0, 100.0, 130.0, paths=("B",), row=4),
+    ]
+    a = analyze(Estimate(items), trials=20_000, seed=2)
+    assert a.method == "simulation" and "'Outage' spreads over more orders" in a.method_reason
+    with pytest.raises(InputError) as caught:
+        analyze(Estimate(items), method="exact")
+    (problem,) = caught.value.problems
+    assert problem.item == "Outage" and "simulation" in problem.fix

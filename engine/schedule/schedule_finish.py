@@ -22,6 +22,7 @@ from engine.exact.convolution import cumulants_of, exact_total
 from engine.exact.grid_plan import TooWideForOneGrid
 from engine.exact.refusals import too_wide_refusal, too_wide_words
 from engine.exact.totals import Total
+from engine.exact.wide_item import WideItemTotal
 from engine.families.distributions import Distribution
 from engine.items import InputError, LineItem, Problem
 from engine.progress import Progress
@@ -79,6 +80,17 @@ def schedule_finish(
                     items, both, "narrow one of the two ranges, or choose the simulation method."
                 ) from None
             wide = too_wide_words(items, both)
+        except WidePath as bad:
+            item = items[bad.item]
+            wide = (
+                f"'{item.name}' spreads over more orders of magnitude than one grid of the"
+                " finish can hold beside the other paths"
+            )
+            if method == "exact":
+                fix = "narrow its range, or choose the simulation method."
+                raise InputError(
+                    [Problem(wide + ".", fix, item=item.name, row=item.row, column="High")]
+                ) from None
         else:
             why = (
                 f"{intro}; the paths share no activity and are independent, so the finish is "
@@ -133,12 +145,24 @@ def _exact_finish(
     totals = []
     for k, on_path in enumerate(path_dists):
         part = None if progress is None else progress.part(k / len(paths), 1 / len(paths))
+        members = list(paths[k].members)
         try:
-            totals.append(exact_total(on_path, progress=part))
+            total = exact_total(on_path, progress=part)
         except TooWideForOneGrid as both:
-            members = list(paths[k].members)
             raise TooWideForOneGrid(members[both.first], members[both.second]) from None
+        if isinstance(total, WideItemTotal):  # its cdf over the finish's grid costs minutes
+            raise WidePath(members[next(i for i, d in enumerate(on_path) if d is total.wide)])
+        totals.append(total)
     return latest_of(totals)
+
+
+class WidePath(ValueError):
+    """A path holds an item kept off the grid (engine.exact.wide_item): the finish's grid
+    would evaluate its cdf at a quarter of a million points, each a sum over its path."""
+
+    def __init__(self, item: int) -> None:
+        self.item = item  # index into the schedule's items
+        super().__init__(f"item {item} is too wide for the finish's grid")
 
 
 def path_dependence(
