@@ -117,20 +117,26 @@ class WideItemTotal(Total):
         lo = np.where(i > 0, np.maximum(lo, below_x), lo)
         hi = np.maximum(np.where(i < len(table_x), np.minimum(hi, above_x), hi), lo)
         x = 0.5 * (lo + hi)
+        # Each step evaluates the cdf and pdf only where the percentile is still sought: a
+        # sum over the rest's grid for every point, and a few points take many more steps.
+        todo = np.arange(len(flat))
         for _ in range(NEWTON_STEPS):
-            f = self.cdf(x)
-            below = f < flat
-            lo = np.where(below, x, lo)
-            hi = np.where(below, hi, x)
-            if np.all(
-                (np.abs(f - flat) <= PROBABILITY_TOLERANCE) | (hi - lo <= 1e-12 * np.abs(hi))
-            ):
+            f = self.cdf(x[todo])
+            want = flat[todo]
+            below = f < want
+            lo[todo] = np.where(below, x[todo], lo[todo])
+            hi[todo] = np.where(below, hi[todo], x[todo])
+            found = (np.abs(f - want) <= PROBABILITY_TOLERANCE) | (
+                hi[todo] - lo[todo] <= 1e-12 * np.abs(hi[todo])
+            )
+            todo, f, want = todo[~found], f[~found], want[~found]
+            if not len(todo):
                 break
-            dens = self.pdf(x)
+            dens = self.pdf(x[todo])
             with np.errstate(divide="ignore", invalid="ignore"):
-                step = x + (flat - f) / dens
-            inside = np.isfinite(step) & (step > lo) & (step < hi)
-            x = np.where(inside, step, 0.5 * (lo + hi))
+                step = x[todo] + (want - f) / dens
+            inside = np.isfinite(step) & (step > lo[todo]) & (step < hi[todo])
+            x[todo] = np.where(inside, step, 0.5 * (lo[todo] + hi[todo]))
         return x.reshape(q.shape)
 
     def support_grid(self, points: int = 2001) -> np.ndarray:
