@@ -368,3 +368,6 @@ def test_a_path_holding_one_item_too_wide_for_the_grid_is_simulated_or_refused()
         analyze(Estimate(items), method="exact")
     (problem,) = caught.value.problems
     assert problem.item == "Outage" and "simulation" in problem.fix
+    pair = CorrelationSpec(pairs=[CorrelationPair("Tie-in", "Works", 0.5)])
+    linked = analyze(Estimate(items, correlation=pair), trials=20_000, seed=2)
+    assert all(r.independent_value is not None for r in linked.levels)  # simulated, too

@@ -124,7 +124,7 @@ def schedule_finish(
             # or two are too wide for one grid, simulated then.
             try:
                 independent = None if shared else _exact_finish(path_dists, paths).total
-            except TooWideForOneGrid:
+            except (TooWideForOneGrid, WidePath):
                 independent = None
             if independent is None:
                 again = progress.part(0.8, 0.2)
