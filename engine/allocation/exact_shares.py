@@ -102,7 +102,7 @@ def conditional_means(
     shift = math.fsum(dists[k].mean for k in certain)
     parts = [dists[k] for k in uncertain]
     scale = math.sqrt(math.fsum(d.variance for d in parts))
-    if spread is not None:  # a far tail inflates the sd: the body sets the scale
+    if spread:  # a far tail inflates the sd: the body sets the scale (none: a point mass)
         scale = min(scale, spread)
     target = scale / resolution
     step = aligned_step(parts, target)
