@@ -4,6 +4,7 @@ closed form, and a risk event as the mixture of its zero and its impact."""
 
 from __future__ import annotations
 
+import itertools
 import math
 
 import numpy as np
@@ -49,12 +50,10 @@ def reference_transform(d: Distribution, t: float) -> complex:
     if isinstance(d, Normal):
         return complex(np.exp(1j * d.mu * t - 0.5 * d.sigma**2 * t * t))
     lo, hi = d.low, d.high
-    if isinstance(d, Triangular):  # two pieces: the density has a kink at the mode
-        edges = sorted({lo, d.mode, hi})
-    else:
-        edges = [lo, hi]
+    # a triangle in two pieces: its density has a kink at the mode
+    edges = sorted({lo, d.mode, hi}) if isinstance(d, Triangular) else [lo, hi]
     re = im = 0.0
-    for a, b in zip(edges, edges[1:], strict=False):
+    for a, b in itertools.pairwise(edges):
         re += integrate.quad(lambda x: float(d.pdf(x)) * math.cos(t * x), a, b, epsabs=1e-14)[0]
         im += integrate.quad(lambda x: float(d.pdf(x)) * math.sin(t * x), a, b, epsabs=1e-14)[0]
     return complex(re, im)
