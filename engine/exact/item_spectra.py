@@ -307,13 +307,17 @@ def _ramp(width: np.ndarray, t: np.ndarray) -> np.ndarray:
         np.subtract(u, out.imag, out=out.imag)
         out.imag *= scale
     v = np.minimum(u * u, RAMP_SERIES**2)
-    np.copyto(out.real, np.polynomial.polynomial.polyval(v, _SERIES_REAL), where=small)
-    np.copyto(out.imag, u * np.polynomial.polynomial.polyval(v, _SERIES_IMAG), where=small)
+    real, imag = _SERIES_REAL[-1], _SERIES_IMAG[-1]
+    for a, b in zip(_SERIES_REAL[-2::-1], _SERIES_IMAG[-2::-1], strict=True):  # Horner
+        real = real * v + a
+        imag = imag * v + b
+    np.copyto(out.real, real, where=small)
+    np.copyto(out.imag, imag * u, where=small)
     return out
 
 
 # 2 (iu)^n / (n + 2)! for n < SERIES_TERMS: the even n give the real part, the odd n the
-# imaginary part divided by u, as polynomials in u^2.
+# imaginary part divided by u, as polynomials in u^2 (lowest power first).
 _SERIES_REAL = [2 * (-1) ** k / math.factorial(2 * k + 2) for k in range(SERIES_TERMS // 2)]
 _SERIES_IMAG = [2 * (-1) ** k / math.factorial(2 * k + 3) for k in range(SERIES_TERMS // 2)]
 

@@ -135,6 +135,11 @@ class GridTotal(Total):
         return self.origin + (np.arange(n + 1) - 0.5) * self.step
 
     @property
+    def edges_cdf(self) -> np.ndarray:
+        """The cdf at `edges` (a point mass sits at its cell's centre, inside the cell)."""
+        return self._edges_cum
+
+    @property
     def values(self) -> np.ndarray:
         return self.origin + np.arange(len(self.masses)) * self.step
 

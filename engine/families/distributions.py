@@ -218,17 +218,17 @@ class Triangular(Continuous):
         a, c, b = self.low, self.mode, self.high
         return ((b - a) ** 2 + (c - a) ** 2 + (b - c) ** 2) / 2
 
-    @property
+    @cached_property
     def variance(self) -> float:
         return self._q / 18
 
-    @property
+    @cached_property
     def mu3(self) -> float:
         # skewness sqrt(2)(a+b-2c)(2a-b-c)(a-2b+c) / (5 Q^1.5), times variance^1.5
         a, c, b = self.low, self.mode, self.high
         return (a + b - 2 * c) * (2 * a - b - c) * (a - 2 * b + c) / 270
 
-    @property
+    @cached_property
     def mu4(self) -> float:
         return 2.4 * self.variance**2  # excess kurtosis of every triangle is -3/5
 
@@ -305,22 +305,22 @@ class Beta(Continuous):
     loc = property(lambda self: self.low)
     scale = property(lambda self: self.high - self.low)
 
-    @property
+    @cached_property
     def mean(self) -> float:
         return self.low + self.scale * self.alpha / (self.alpha + self.beta)
 
-    @property
+    @cached_property
     def variance(self) -> float:
         a, b = self.alpha, self.beta
         return self.scale**2 * a * b / ((a + b) ** 2 * (a + b + 1))
 
-    @property
+    @cached_property
     def mu3(self) -> float:
         a, b = self.alpha, self.beta
         skew = 2 * (b - a) * math.sqrt(a + b + 1) / ((a + b + 2) * math.sqrt(a * b))
         return skew * self.variance**1.5
 
-    @property
+    @cached_property
     def mu4(self) -> float:
         a, b = self.alpha, self.beta
         ex = (
@@ -432,20 +432,20 @@ class Lognormal(Continuous):
     def _raw(self, k: int) -> float:
         return math.exp(k * self.mu + 0.5 * k * k * self.sigma**2)
 
-    @property
+    @cached_property
     def mean(self) -> float:
         return self._raw(1)
 
-    @property
+    @cached_property
     def variance(self) -> float:
         return math.expm1(self.sigma**2) * math.exp(2 * self.mu + self.sigma**2)
 
-    @property
+    @cached_property
     def mu3(self) -> float:
         s2 = self.sigma**2
         return (math.exp(s2) + 2) * math.sqrt(math.expm1(s2)) * self.variance**1.5
 
-    @property
+    @cached_property
     def mu4(self) -> float:
         s2 = self.sigma**2
         ex = math.exp(4 * s2) + 2 * math.exp(3 * s2) + 3 * math.exp(2 * s2) - 6
@@ -596,6 +596,10 @@ class Occurrence(Distribution):
         return min(lo, 0.0), max(hi, 0.0)
 
     def parts(self):
+        return self._parts
+
+    @cached_property
+    def _parts(self):
         atoms, continuous = self.impact.parts()
         atoms = [(0.0, 1 - self.p)] + [(v, self.p * m) for v, m in atoms]
         return atoms, [(self.p * w, c) for w, c in continuous]

@@ -94,9 +94,9 @@ def kolmogorov_gap(total: Total, shortcut: Cumulants | None = None) -> NormalGap
         gaps = np.maximum(upper, lower)
         i = int(np.argmax(gaps))
         return NormalGap(float(gaps[i]), float(x[i]), float(100 * (i + 0.5) / n))
-    if isinstance(total, GridTotal):
+    if isinstance(total, GridTotal):  # at a cell's edge its cdf is the masses' running sum
         x = total.edges
-        cdf = total.cdf(x)
+        cdf = total.edges_cdf
     else:
         x = total.support_grid()
         cdf = total.cdf(x)

@@ -23,6 +23,7 @@ from engine.families.distributions import (
     Distribution,
     Lognormal,
     Normal,
+    Occurrence,
     Triangular,
     Uniform,
 )
@@ -82,7 +83,8 @@ BATCHED = (Uniform, Triangular, Beta, Normal, Lognormal)
 
 def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.ndarray:
     """Each family's items as one distribution with array parameters (their ppf broadcasts),
-    so 10,000 items are a few numpy calls; risk events and discrete items one by one."""
+    and so the risk events over each family's impacts, so 10,000 items are a few numpy
+    calls; discrete items one by one."""
     q = np.asarray(q, dtype=float)
     out = np.zeros(q.shape)
     for family in BATCHED:
@@ -90,10 +92,28 @@ def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.
         if group:
             batch = stacked(group, np.ones(len(group), dtype=int))
             out += batch.ppf(q[..., None]).sum(axis=-1)
+        events = [d for d in dists if type(d) is Occurrence and type(d.impact) is family]
+        if events:
+            out += _risk_event_percentiles(events, q[..., None]).sum(axis=-1)
     for d in dists:
-        if type(d) not in BATCHED:
+        if type(d) not in BATCHED and not (type(d) is Occurrence and type(d.impact) in BATCHED):
             out += d.ppf(q)
     return out
+
+
+def _risk_event_percentiles(events: Sequence[Occurrence], q: np.ndarray) -> np.ndarray:
+    """`Occurrence.ppf` of risk events whose impacts are of one family, in one call."""
+    impact = stacked([e.impact for e in events], np.ones(len(events), dtype=int))
+    p = np.array([e.p for e in events])
+    below = np.zeros(len(events))  # P(outcome < 0): an impact that can be negative, occurring
+    negative = np.array([e.impact.bounds()[0] < 0 for e in events])
+    if negative.any():
+        below = np.where(negative, p * impact.cdf(0.0), 0.0)
+    low_part = q < below
+    at_zero = ~low_part & (q <= below + 1 - p)
+    with np.errstate(all="ignore"):  # a tiny p overflows where its value is not used
+        u = np.where(low_part, q / p, np.clip((q - (1 - p)) / p, 0.0, 1.0))
+        return np.where(at_zero, 0.0, impact.ppf(u))
 
 
 def correlated_normal_variance(sds: np.ndarray, pearson: np.ndarray) -> float:
