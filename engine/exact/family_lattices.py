@@ -15,7 +15,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from engine.exact.grid_plan import part_range
+from engine.exact.grid_plan import part_ranges
 from engine.exact.lattice import MAX_ITEM_POINTS, item_lattice
 from engine.exact.stacked_parts import stacked
 from engine.families.distributions import Beta, Continuous, Lognormal
@@ -32,15 +32,12 @@ def part_lattices(parts: Sequence[Continuous], step: float, span: float) -> list
     """Each part's hat masses on the grid k * step (as `item_lattice(part, step, span)`)."""
     if len(_cache) > CACHE_SIZE:
         _cache.clear()
-    out: dict[int, PartLattice] = {}
+    out = [_cache.get((part, step, span)) for part in parts]
+    missing = [i for i, hit in enumerate(out) if hit is None]
     batches: dict[type, list[tuple[int, float, float, float]]] = {}
     longest = min(MAX_ITEM_POINTS * step, span)
-    for i, part in enumerate(parts):
-        hit = _cache.get((part, step, span))
-        if hit is not None:
-            out[i] = hit
-            continue
-        lo, hi, tail = part_range(part)
+    for i, (lo, hi, tail) in zip(missing, part_ranges([parts[i] for i in missing]), strict=True):
+        part = parts[i]
         if type(part) in (Beta, Lognormal) and hi - lo <= longest:
             batches.setdefault(type(part), []).append((i, lo, hi, tail))
         else:
@@ -49,9 +46,9 @@ def part_lattices(parts: Sequence[Continuous], step: float, span: float) -> list
         lattices = _family_lattices([parts[r[0]] for r in rows], rows, step)
         for (i, _, _, _), lattice in zip(rows, lattices, strict=True):
             out[i] = lattice
-    for i, part in enumerate(parts):
-        _cache[(part, step, span)] = out[i]
-    return [out[i] for i in range(len(parts))]
+    for i in missing:
+        _cache[(parts[i], step, span)] = out[i]
+    return out
 
 
 def _family_lattices(

@@ -13,7 +13,6 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
@@ -69,24 +68,49 @@ def _variance_or_inf(part: Continuous) -> float:
         return math.inf
 
 
+# Parts' grid ranges already computed (as the central spreads above).
+_ranges: dict[Continuous, tuple[float, float, float]] = {}
+
+
+def part_ranges(parts: Sequence[Continuous]) -> list[tuple[float, float, float]]:
+    """(low, high, folded tail mass) of each continuous part's grid: its bounds when
+    bounded, else its quantiles at ITEM_TAIL and 1 - ITEM_TAIL, those of all unbounded
+    parts of a family from one call."""
+    new = [p for p in dict.fromkeys(parts) if p not in _ranges]
+    if new:
+        if len(_ranges) > 65536:
+            _ranges.clear()
+        unbounded: dict[type, list[Continuous]] = {}
+        for part in new:
+            if isinstance(part, Uniform | Triangular | Beta):
+                lo, hi = part.bounds()
+                _ranges[part] = (lo, hi, 0.0)
+            else:
+                unbounded.setdefault(type(part), []).append(part)
+        for members in unbounded.values():
+            ends = stacked(members).ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL]))
+            for part, (lo, hi) in zip(members, ends.tolist(), strict=True):
+                _ranges[part] = (lo, hi, 2 * ITEM_TAIL)
+    return [_ranges[p] for p in parts]
+
+
 def part_range(part: Continuous) -> tuple[float, float, float]:
-    """(low, high, folded tail mass) of a continuous part's grid: its bounds when bounded,
-    else its quantiles at ITEM_TAIL and 1 - ITEM_TAIL."""
-    if isinstance(part, Uniform | Triangular | Beta):
-        lo, hi = part.bounds()
-        return lo, hi, 0.0
-    lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
-    return lo, hi, 2 * ITEM_TAIL
+    """`part_ranges` of one part."""
+    return part_ranges([part])[0]
 
 
-@lru_cache(maxsize=65536)
-def item_range(d: Distribution) -> tuple[float, float]:
-    """The lowest and highest value an item's grid holds (its point masses included)."""
-    atoms, continuous = d.parts()
-    ends = [v for v, _ in atoms]
-    for _, part in continuous:
-        ends += part_range(part)[:2]
-    return min(ends), max(ends)
+def item_ranges(dists: Sequence[Distribution]) -> tuple[np.ndarray, np.ndarray]:
+    """The lowest and highest value each item's grid holds (its point masses included)."""
+    parts = [part for d in dists for _, part in d.parts()[1]]
+    ranges = iter(part_ranges(parts))
+    lows, highs = np.empty(len(dists)), np.empty(len(dists))
+    for i, d in enumerate(dists):
+        atoms, continuous = d.parts()
+        ends = [v for v, _ in atoms]
+        for _ in continuous:
+            ends += next(ranges)[:2]
+        lows[i], highs[i] = min(ends), max(ends)
+    return lows, highs
 
 
 class TooWideForOneGrid(ValueError):
@@ -114,9 +138,9 @@ def plan_grid(dists: Sequence[Distribution], resolution: int) -> GridPlan:
         scale = math.sqrt(math.fsum(d.variance for d in dists))
     step = scale / resolution
     widest, most = None, 0.0
-    for i, d in enumerate(dists):
-        for _, part in d.parts()[1]:
-            lo, hi, folded = part_range(part)
-            if folded and (hi - lo) / step > most:
-                widest, most = i, (hi - lo) / step
+    owners = [i for i, d in enumerate(dists) for _ in d.parts()[1]]
+    parts = [part for d in dists for _, part in d.parts()[1]]
+    for i, (lo, hi, folded) in zip(owners, part_ranges(parts), strict=True):
+        if folded and (hi - lo) / step > most:
+            widest, most = i, (hi - lo) / step
     return GridPlan(step, widest if most > WIDE_POINTS else None)

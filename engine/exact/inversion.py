@@ -22,7 +22,7 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.grid_plan import central_spreads, item_range
+from engine.exact.grid_plan import central_spreads, item_ranges
 from engine.exact.item_spectra import SpectraPlan, gridded_spectra, partial_spectrum
 from engine.exact.lattice import Lattice, trim
 from engine.families.distributions import Distribution
@@ -131,7 +131,7 @@ def window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
     """(first grid index, number of points) of a window holding the total but 1e-16 of it
     on each side: the items' own ranges added up, or the mean plus or minus the smaller of
     Hoeffding's and Bernstein's bounds (items clipped at their ranges), when narrower."""
-    lows, highs = np.array([item_range(d) for d in dists]).T
+    lows, highs = item_ranges(dists)
     means = [d.mean for d in dists]
     variances = [d.variance for d in dists]
     low, high, mean = math.fsum(lows), math.fsum(highs), math.fsum(means)

@@ -221,8 +221,8 @@ def gridded_spectra(
             rows = short[bucket == b]
             width = int(lengths[rows].max())
             stacked = np.zeros((len(rows), width))
-            for j, i in enumerate(rows):
-                stacked[j, : lengths[i]] = lattices[i][1]
+            filled = np.arange(width) < lengths[rows, None]  # row by row, as concatenated
+            stacked[filled] = np.concatenate([lattices[i][1] for i in rows])
             starts = np.array([lattices[i][0] for i in rows], dtype=float)
             out[rows] = _turns(starts * step, t) * (
                 stacked @ cos[:width] + 1j * (stacked @ sin[:width])
@@ -236,6 +236,9 @@ def gridded_spectra(
 
 
 def _add_rows(into: np.ndarray, rows: np.ndarray, values: np.ndarray) -> None:
+    if len(np.unique(rows)) == len(rows):  # one gridded part per item: no sort needed
+        into[rows] += values
+        return
     order = np.argsort(rows, kind="stable")
     rows = rows[order]
     starts = np.flatnonzero(np.diff(rows, prepend=-1))
