@@ -99,17 +99,24 @@ def part_range(part: Continuous) -> tuple[float, float, float]:
     return part_ranges([part])[0]
 
 
+# Items' grid ranges already computed.
+_item_ranges: dict[Distribution, tuple[float, float]] = {}
+
+
 def item_ranges(dists: Sequence[Distribution]) -> tuple[np.ndarray, np.ndarray]:
     """The lowest and highest value each item's grid holds (its point masses included)."""
-    parts = [part for d in dists for _, part in d.parts()[1]]
-    ranges = iter(part_ranges(parts))
-    lows, highs = np.empty(len(dists)), np.empty(len(dists))
-    for i, d in enumerate(dists):
-        atoms, continuous = d.parts()
-        ends = [v for v, _ in atoms]
-        for _ in continuous:
-            ends += next(ranges)[:2]
-        lows[i], highs[i] = min(ends), max(ends)
+    new = [d for d in dict.fromkeys(dists) if d not in _item_ranges]
+    if new:
+        if len(_item_ranges) > 65536:
+            _item_ranges.clear()
+        ranges = iter(part_ranges([part for d in new for _, part in d.parts()[1]]))
+        for d in new:
+            atoms, continuous = d.parts()
+            ends = [v for v, _ in atoms]
+            for _ in continuous:
+                ends += next(ranges)[:2]
+            _item_ranges[d] = (min(ends), max(ends))
+    lows, highs = np.array([_item_ranges[d] for d in dists]).T
     return lows, highs
 
 
