@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, fields
 from functools import cached_property
 
 import numpy as np
@@ -624,3 +624,16 @@ class Occurrence(Distribution):
         atoms, continuous = self.impact.parts()
         atoms = [(0.0, 1 - self.p)] + [(v, self.p * m) for v, m in atoms]
         return atoms, [(self.p * w, c) for w, c in continuous]
+
+
+def _kept_hash(self: Distribution) -> int:
+    """The dataclass's hash (that of the fields' tuple), computed once: items are keys of
+    the exact engine's per-item caches, looked up several times per analysis."""
+    known = self.__dict__.get("_hash")
+    if known is None:
+        known = self.__dict__["_hash"] = hash(tuple(getattr(self, f.name) for f in fields(self)))
+    return known
+
+
+for _family in (Fixed, Uniform, Triangular, Beta, Normal, Lognormal, Discrete, Occurrence):
+    _family.__hash__ = _kept_hash  # type: ignore[method-assign]
