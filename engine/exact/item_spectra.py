@@ -285,9 +285,9 @@ def _triangular(rise: np.ndarray, fall: np.ndarray, t: np.ndarray) -> np.ndarray
     """About the mode: a mixture of a ramp rising over `rise` to the mode (weight
     rise / range) and one falling over `fall` from it, the first the mirror of the second."""
     left = (rise / (rise + fall))[:, None]
-    out = _ramp(fall, t)
+    ramps = _ramp(np.concatenate([fall, rise]), t)  # one call for both: fewer numpy calls
+    out, rising = ramps[: len(rise)], ramps[len(rise) :]
     out *= 1 - left
-    rising = _ramp(rise, t)
     rising *= left
     out.real += rising.real
     out.imag -= rising.imag

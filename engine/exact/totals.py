@@ -8,6 +8,7 @@ simulation by a standard error per percentile.
 
 from __future__ import annotations
 
+import copy
 import math
 from dataclasses import dataclass, field
 
@@ -128,6 +129,13 @@ class GridTotal(Total):
         neighbours = np.maximum(padded[:-2], padded[2:])
         atom = (self.masses > ATOM_RATIO * neighbours) & (self.masses > 1e-9)
         object.__setattr__(self, "_atom_cell", atom)
+
+    def with_error(self, bound: float, probability: float) -> GridTotal:
+        """This total with its error estimate; the running sums are kept, not recomputed."""
+        out = copy.copy(self)
+        object.__setattr__(out, "error_bound", bound)
+        object.__setattr__(out, "error_probability", probability)
+        return out
 
     @property
     def edges(self) -> np.ndarray:
