@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.family_lattices import part_lattices
+from engine.exact.family_lattices import PartLattice, part_lattices
 from engine.families.distributions import (
     Continuous,
     Distribution,
@@ -190,25 +190,32 @@ def partial_spectrum(
     return PartialSpectrum(closed, table[arrays.open_rows])
 
 
+def gridded_lattices(plan: SpectraPlan, step: float, count: int) -> list[PartLattice]:
+    """The gridded parts' hat masses on the grid k * step. A part's range is cut at `count`
+    steps: beyond its low end plus the window, the total is beyond the window too."""
+    # the span only cuts heavy tails; a power of two of steps lets an analysis of the same
+    # items on the same step (another level, a setting changed) reuse the lattices
+    span = step * 2 ** math.ceil(math.log2(count))
+    return part_lattices([part for _, _, part in plan.gridded], step, span)
+
+
 def gridded_spectra(
-    plan: SpectraPlan, step: float, anchors: np.ndarray, count: int, bins: int
+    plan: SpectraPlan,
+    step: float,
+    anchors: np.ndarray,
+    count: int,
+    bins: int,
+    part_masses: list[PartLattice],
 ) -> tuple[np.ndarray, float]:
     """The gridded parts' transforms at the first `bins` frequencies 2 pi j / (count step),
-    from their hat masses on the grid (the hat's sinc^2 divided out), and the tail mass
-    their grids folded in. A part's range is cut at `count` steps: beyond its low end plus
-    the window, the total is beyond the window too."""
+    from their hat masses on the grid (`gridded_lattices`; the hat's sinc^2 divided out),
+    and the tail mass their grids folded in."""
     out = np.empty((len(plan.gridded), bins), dtype=complex)
     folded = 0.0
     t = 2 * math.pi * np.arange(bins) / (count * step)
     spread = np.sinc(t * step / (2 * math.pi)) ** 2  # np.sinc(x) = sin(pi x) / (pi x)
     lattices = []
-    # the span only cuts heavy tails; a power of two of steps lets an analysis of the same
-    # items on the same step (another level, a setting changed) reuse the lattices
-    span = step * 2 ** math.ceil(math.log2(count))
-    parts = [part for _, _, part in plan.gridded]
-    for (row, weight, _), (start, masses, tail) in zip(
-        plan.gridded, part_lattices(parts, step, span), strict=True
-    ):
+    for (row, weight, _), (start, masses, tail) in zip(plan.gridded, part_masses, strict=True):
         folded += weight * tail
         lattices.append((start - anchors[row], masses))
     lengths = np.array([len(m) for _, m in lattices])
