@@ -566,12 +566,15 @@ class Occurrence(Distribution):
         p, base = self.p, self.impact
         mean = p * base.mean
         d = base.mean - mean  # offset of the impact's mean from the event's mean
-        central_base = (1.0, 0.0, base.variance, base.mu3, base.mu4)
-        out = []
-        for k in (2, 3, 4):
-            shifted = sum(math.comb(k, j) * d ** (k - j) * central_base[j] for j in range(k + 1))
-            out.append((1 - p) * (-mean) ** k + p * shifted)
-        return mean, out[0], out[1], out[2]
+        v, m3, m4 = base.variance, base.mu3, base.mu4
+        # E[(X - mean)^k]: the zero's share, and the impact's moments about its own mean
+        # shifted by d (binomial expansion), written out for k = 2, 3, 4
+        return (
+            mean,
+            (1 - p) * mean**2 + p * (d**2 + v),
+            (1 - p) * -(mean**3) + p * (d**3 + 3 * d * v + m3),
+            (1 - p) * mean**4 + p * (d**4 + 6 * d**2 * v + 4 * d * m3 + m4),
+        )
 
     mean = property(lambda self: self._moments[0])
     variance = property(lambda self: self._moments[1])
