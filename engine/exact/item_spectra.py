@@ -78,13 +78,16 @@ class SpectraPlan:
         plan = cls(len(dists))
         for row, d in enumerate(dists):
             atoms, continuous = d.parts()
-            share = math.fsum(m for _, m in atoms)
-            plan.atom_log += math.log(share) if share > 0 else -math.inf
-            if not atoms and len(continuous) == 1 and continuous[0][0] == 1.0:
-                part = continuous[0][1]
-                if isinstance(part, CLOSED_FORMS):
-                    plan.alone.setdefault(type(part), []).append((row, *_parameters(part)))
-                    continue
+            if not atoms:  # no point mass: neither has the total
+                plan.atom_log = -math.inf
+                if len(continuous) == 1 and continuous[0][0] == 1.0:
+                    part = continuous[0][1]
+                    if isinstance(part, CLOSED_FORMS):
+                        plan.alone.setdefault(type(part), []).append((row, *_parameters(part)))
+                        continue
+            else:
+                share = math.fsum(m for _, m in atoms)
+                plan.atom_log += math.log(share) if share > 0 else -math.inf
             at = len(plan.table_items)
             plan.table_items.append(row)
             for rank, (value, mass) in enumerate(atoms):
