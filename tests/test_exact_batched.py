@@ -11,6 +11,7 @@ from scipy import integrate, stats
 from engine.exact import family_lattices
 from engine.exact.grid_plan import central_spreads
 from engine.exact.item_abs_moments import abs_moments3
+from engine.exact.item_cache import kept
 from engine.exact.lattice import item_lattice
 from engine.families.distributions import (
     Beta,
@@ -126,3 +127,16 @@ def test_sum_of_item_percentiles_batched_equals_item_by_item() -> None:
     q = np.array([0.001, 0.1, 0.3, 0.5, 0.75, 0.8, 0.9, 0.95, 0.99])
     one_by_one = np.sum([d.ppf(q) for d in dists], axis=0)
     np.testing.assert_allclose(sum_of_item_percentiles(dists, q), one_by_one, rtol=1e-14)
+
+
+def test_kept_values_are_computed_once_per_missing_key_in_order() -> None:
+    calls: list[list[str]] = []
+
+    def compute(missing: list[str]) -> list[int]:
+        calls.append(missing)
+        return [len(k) for k in missing]
+
+    cache: dict[str, int] = {"ab": 99}  # a kept value is read, not recomputed
+    assert kept(cache, ["abc", "ab", "abc", "a"], compute) == [3, 99, 3, 1]
+    assert calls == [["abc", "a"]]
+    assert kept(cache, ["a", "abc"], compute) == [1, 3] and len(calls) == 1
