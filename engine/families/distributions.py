@@ -634,9 +634,11 @@ def _kept_hash(self: Distribution) -> int:
     the exact engine's per-item caches, looked up several times per analysis."""
     known = self.__dict__.get("_hash")
     if known is None:
-        known = self.__dict__["_hash"] = hash(tuple(getattr(self, f.name) for f in fields(self)))
+        values = tuple(getattr(self, name) for name in self._field_names)  # type: ignore[attr-defined]
+        known = self.__dict__["_hash"] = hash(values)
     return known
 
 
 for _family in (Fixed, Uniform, Triangular, Beta, Normal, Lognormal, Discrete, Occurrence):
     _family.__hash__ = _kept_hash  # type: ignore[method-assign]
+    _family._field_names = tuple(f.name for f in fields(_family))  # type: ignore[attr-defined]
