@@ -43,11 +43,11 @@ SERIES_TERMS = 8
 CHUNK = 256
 # Fewer evenly spaced frequencies than this are not worth splitting (`_turns`).
 SPLIT_FROM = 32
-# A closed-form part's parameters: its centre first, then its shape's.
 CLOSED_FORMS = (Uniform, Triangular, Normal)
 
 
 def _parameters(part: Continuous) -> tuple[float, ...]:
+    """A closed-form part's centre, then its shape's parameters (`_SHAPES`)."""
     if isinstance(part, Uniform):
         return (part.low + part.high) / 2, (part.high - part.low) / 2
     if isinstance(part, Triangular):
@@ -68,6 +68,7 @@ class SpectraPlan:
     table_items: list[int] = field(default_factory=list)  # the item of each table row
     gridded: list[tuple[int, float, Continuous]] = field(default_factory=list)  # item rows
     atom_log: float = 0.0  # log of the total's point-mass share (the product of the items')
+    arrays: _Arrays | None = None  # the lists above as arrays, once the plan is made
 
     @property
     def has_point_mass(self) -> bool:
@@ -103,8 +104,6 @@ class SpectraPlan:
                     plan.gridded.append((row, weight, part))
         plan.arrays = _Arrays.of(plan)
         return plan
-
-    arrays: _Arrays | None = None
 
 
 @dataclass(frozen=True)
