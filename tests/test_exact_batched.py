@@ -122,6 +122,7 @@ def test_sum_of_item_percentiles_batched_equals_item_by_item() -> None:
         Occurrence(pert(1.0, 2.0, 9.0), 1e-300),
         Occurrence(Lognormal(1.0, 0.4), 0.5),
         Occurrence(Fixed(6.0), 0.4),
+        Occurrence(Fixed(-2.0), 0.7),  # a saving: its percentiles below zero
         pert(5.0, 6.0, 10.0),
     ]
     q = np.array([0.001, 0.1, 0.3, 0.5, 0.75, 0.8, 0.9, 0.95, 0.99])

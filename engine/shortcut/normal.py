@@ -21,6 +21,7 @@ from engine.exact.totals import Cumulants
 from engine.families.distributions import (
     Beta,
     Distribution,
+    Fixed,
     Lognormal,
     Normal,
     Occurrence,
@@ -79,6 +80,7 @@ def cornish_fisher_percentile(cumulants: Cumulants, q: np.ndarray) -> np.ndarray
 
 
 BATCHED = (Uniform, Triangular, Beta, Normal, Lognormal)
+EVENT_IMPACTS = (*BATCHED, Fixed)  # a risk event's impact, batched
 
 
 def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.ndarray:
@@ -87,17 +89,20 @@ def sum_of_item_percentiles(dists: Sequence[Distribution], q: np.ndarray) -> np.
     calls; discrete items one by one."""
     q = np.asarray(q, dtype=float)
     out = np.zeros(q.shape)
-    for family in BATCHED:
-        group = [d for d in dists if type(d) is family]
-        if group:
-            batch = stacked(group, np.ones(len(group), dtype=int))
-            out += batch.ppf(q[..., None]).sum(axis=-1)
-        events = [d for d in dists if type(d) is Occurrence and type(d.impact) is family]
-        if events:
-            out += _risk_event_percentiles(events, q[..., None]).sum(axis=-1)
+    plain: dict[type, list[Distribution]] = {}
+    events: dict[type, list[Occurrence]] = {}
     for d in dists:
-        if type(d) not in BATCHED and not (type(d) is Occurrence and type(d.impact) in BATCHED):
+        if type(d) in BATCHED:
+            plain.setdefault(type(d), []).append(d)
+        elif isinstance(d, Occurrence) and type(d.impact) in EVENT_IMPACTS:
+            events.setdefault(type(d.impact), []).append(d)
+        else:
             out += d.ppf(q)
+    for group in plain.values():
+        batch = stacked(group, np.ones(len(group), dtype=int))
+        out += batch.ppf(q[..., None]).sum(axis=-1)
+    for group in events.values():
+        out += _risk_event_percentiles(group, q[..., None]).sum(axis=-1)
     return out
 
 
