@@ -18,6 +18,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from engine.collection_pause import collector_paused
 from engine.dependence.block_structure import BlockStructure
 from engine.dependence.correlation import (
     SHEET,
@@ -203,6 +204,7 @@ class Analysis:
         }
 
 
+@collector_paused()  # ~100,000 new objects on a first call, none in a cycle
 def analyze(
     estimate: Estimate,
     *,

@@ -11,9 +11,11 @@ from scipy import integrate, stats
 from engine.exact import family_lattices
 from engine.exact.grid_plan import central_spreads
 from engine.exact.item_abs_moments import abs_moments3
+from engine.exact.item_cache import kept
 from engine.exact.lattice import item_lattice
 from engine.families.distributions import (
     Beta,
+    Fixed,
     Lognormal,
     Normal,
     Occurrence,
@@ -21,6 +23,7 @@ from engine.families.distributions import (
     Uniform,
     pert,
 )
+from engine.shortcut.normal import sum_of_item_percentiles
 
 SHAPES = [
     pert(0.0, 1.0, 10.0),
@@ -105,3 +108,36 @@ def test_abs_moments3_against_quadrature(dist) -> None:
             expected += weight * value
     (got,) = abs_moments3([dist])
     assert got == pytest.approx(expected, rel=1e-8)
+
+
+def test_sum_of_item_percentiles_batched_equals_item_by_item() -> None:
+    # risk events over every batched family, one with an impact that can be negative (its
+    # percentiles below zero), one with a tiny probability, beside plain items
+    dists = [
+        Triangular(0.0, 2.0, 3.0),
+        Occurrence(Triangular(1.0, 3.0, 8.0), 0.3),
+        Occurrence(Triangular(-4.0, -1.0, 2.0), 0.6),
+        Occurrence(Uniform(2.0, 4.0), 0.05),
+        Occurrence(Normal(-1.0, 2.0), 0.25),
+        Occurrence(pert(1.0, 2.0, 9.0), 1e-300),
+        Occurrence(Lognormal(1.0, 0.4), 0.5),
+        Occurrence(Fixed(6.0), 0.4),
+        Occurrence(Fixed(-2.0), 0.7),  # a saving: its percentiles below zero
+        pert(5.0, 6.0, 10.0),
+    ]
+    q = np.array([0.001, 0.1, 0.3, 0.5, 0.75, 0.8, 0.9, 0.95, 0.99])
+    one_by_one = np.sum([d.ppf(q) for d in dists], axis=0)
+    np.testing.assert_allclose(sum_of_item_percentiles(dists, q), one_by_one, rtol=1e-14)
+
+
+def test_kept_values_are_computed_once_per_missing_key_in_order() -> None:
+    calls: list[list[str]] = []
+
+    def compute(missing: list[str]) -> list[int]:
+        calls.append(missing)
+        return [len(k) for k in missing]
+
+    cache: dict[str, int] = {"ab": 99}  # a kept value is read, not recomputed
+    assert kept(cache, ["abc", "ab", "abc", "a"], compute) == [3, 99, 3, 1]
+    assert calls == [["abc", "a"]]
+    assert kept(cache, ["a", "abc"], compute) == [1, 3] and len(calls) == 1

@@ -174,3 +174,17 @@ def test_error_bound_shrinks_with_the_step() -> None:
     ref = stats.gamma(4).ppf(Q)
     errs = [np.max(np.abs(exact_total(parts, resolution=r).ppf(Q) - ref)) for r in (100, 200)]
     assert 3.0 < errs[0] / errs[1] < 5.0
+
+
+@pytest.mark.parametrize(
+    "dists",
+    [
+        [Triangular(0.0, 2.0, 3.0), Uniform(1.0, 5.0), Triangular(2.0, 2.5, 9.0)],
+        [Occurrence(Fixed(3.0), 0.4), Occurrence(Triangular(1.0, 2.0, 4.0), 0.3)],  # point masses
+    ],
+)
+def test_the_cdf_at_the_cells_edges_is_their_running_sum(dists) -> None:
+    # the Kolmogorov gap reads `edges_cdf` instead of evaluating the cdf at every edge
+    total = exact_total(dists)
+    assert isinstance(total, GridTotal)
+    np.testing.assert_allclose(total.cdf(total.edges), total.edges_cdf, rtol=0, atol=1e-15)

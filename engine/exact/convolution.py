@@ -165,14 +165,9 @@ def grid_total(
     total = GridTotal(shift + fine[0] * step, step, fine[1], cumulants, truncated_mass=folded)
     coarse_total = GridTotal(shift + coarse[0] * 2 * step, 2 * step, coarse[1], cumulants)
     x = total.ppf(CHECK_Q)
-    return GridTotal(
-        total.origin,
-        step,
-        total.masses,
-        cumulants,
-        error_bound=float(np.max(np.abs(x - coarse_total.ppf(CHECK_Q)))),
-        truncated_mass=folded,
-        error_probability=float(np.max(np.abs(total.cdf(x) - coarse_total.cdf(x)))),
+    return total.with_error(
+        float(np.max(np.abs(x - coarse_total.ppf(CHECK_Q)))),
+        float(np.max(np.abs(total.cdf(x) - coarse_total.cdf(x)))),
     )
 
 

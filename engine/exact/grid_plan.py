@@ -13,10 +13,10 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from functools import lru_cache
 
 import numpy as np
 
+from engine.exact.item_cache import kept
 from engine.exact.stacked_parts import stacked
 from engine.families.distributions import Beta, Continuous, Distribution, Triangular, Uniform
 
@@ -28,7 +28,7 @@ ITEM_TAIL = 1e-10
 WIDE_POINTS = 1 << 22
 
 
-# Central spreads already computed: items outlive analyses, so an edit computes one more.
+# Central spreads already computed (engine.exact.item_cache).
 _spreads: dict[Distribution, float] = {}
 
 
@@ -36,30 +36,28 @@ def central_spreads(dists: Sequence[Distribution]) -> np.ndarray:
     """Each item's spread where its probability is: the sd of its parts, each continuous
     part read with its median and min(sd, (P90 - P10) / 2.563) so that a far tail cannot
     inflate it. The quantiles of all parts of a family come from one call."""
-    new = [d for d in dict.fromkeys(dists) if d not in _spreads]
-    if new:
-        slots: list[tuple[int, float, float, float]] = []  # (item, weight, centre, variance)
-        families: dict[type, list[tuple[int, Continuous]]] = {}
-        for row, d in enumerate(new):
-            atoms, continuous = d.parts()
-            slots += [(row, mass, value, 0.0) for value, mass in atoms]
-            for weight, part in continuous:
-                families.setdefault(type(part), []).append((len(slots), part))
-                slots.append((row, weight, 0.0, _variance_or_inf(part)))
-        r, w, c, v = (np.array(column) for column in zip(*slots, strict=True))
-        r = r.astype(np.int64)
-        for members in families.values():
-            at = [slot for slot, _ in members]
-            p10, p50, p90 = stacked([p for _, p in members]).ppf(np.array([0.1, 0.5, 0.9])).T
-            c[at] = p50
-            v[at] = np.minimum(v[at], ((p90 - p10) / NORMAL_P10_P90) ** 2)
-        total = np.bincount(r, w)
-        mid = np.bincount(r, w * c) / total
-        spread = np.sqrt(np.maximum(np.bincount(r, w * (v + (c - mid[r]) ** 2)) / total, 0.0))
-        if len(_spreads) > 65536:
-            _spreads.clear()
-        _spreads.update(zip(new, spread.tolist(), strict=True))
-    return np.array([_spreads[d] for d in dists])
+    return np.array(kept(_spreads, dists, _central_spreads))
+
+
+def _central_spreads(new: list[Distribution]) -> list[float]:
+    slots: list[tuple[int, float, float, float]] = []  # (item, weight, centre, variance)
+    families: dict[type, list[tuple[int, Continuous]]] = {}
+    for row, d in enumerate(new):
+        atoms, continuous = d.parts()
+        slots += [(row, mass, value, 0.0) for value, mass in atoms]
+        for weight, part in continuous:
+            families.setdefault(type(part), []).append((len(slots), part))
+            slots.append((row, weight, 0.0, _variance_or_inf(part)))
+    r, w, c, v = (np.array(column) for column in zip(*slots, strict=True))
+    r = r.astype(np.int64)
+    for members in families.values():
+        at = [slot for slot, _ in members]
+        p10, p50, p90 = stacked([p for _, p in members]).ppf(np.array([0.1, 0.5, 0.9])).T
+        c[at] = p50
+        v[at] = np.minimum(v[at], ((p90 - p10) / NORMAL_P10_P90) ** 2)
+    total = np.bincount(r, w)
+    mid = np.bincount(r, w * c) / total
+    return np.sqrt(np.maximum(np.bincount(r, w * (v + (c - mid[r]) ** 2)) / total, 0.0)).tolist()
 
 
 def _variance_or_inf(part: Continuous) -> float:
@@ -69,24 +67,58 @@ def _variance_or_inf(part: Continuous) -> float:
         return math.inf
 
 
+# Parts' grid ranges already computed.
+_ranges: dict[Continuous, tuple[float, float, float]] = {}
+
+
+def part_ranges(parts: Sequence[Continuous]) -> list[tuple[float, float, float]]:
+    """(low, high, folded tail mass) of each continuous part's grid: its bounds when
+    bounded, else its quantiles at ITEM_TAIL and 1 - ITEM_TAIL, those of all unbounded
+    parts of a family from one call."""
+    return kept(_ranges, parts, _part_ranges)
+
+
+def _part_ranges(new: list[Continuous]) -> list[tuple[float, float, float]]:
+    out: dict[Continuous, tuple[float, float, float]] = {}
+    unbounded: dict[type, list[Continuous]] = {}
+    for part in new:
+        if isinstance(part, Uniform | Triangular | Beta):
+            lo, hi = part.bounds()
+            out[part] = (lo, hi, 0.0)
+        else:
+            unbounded.setdefault(type(part), []).append(part)
+    for members in unbounded.values():
+        ends = stacked(members).ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL]))
+        for part, (lo, hi) in zip(members, ends.tolist(), strict=True):
+            out[part] = (lo, hi, 2 * ITEM_TAIL)
+    return [out[p] for p in new]
+
+
 def part_range(part: Continuous) -> tuple[float, float, float]:
-    """(low, high, folded tail mass) of a continuous part's grid: its bounds when bounded,
-    else its quantiles at ITEM_TAIL and 1 - ITEM_TAIL."""
-    if isinstance(part, Uniform | Triangular | Beta):
-        lo, hi = part.bounds()
-        return lo, hi, 0.0
-    lo, hi = (float(v) for v in part.ppf(np.array([ITEM_TAIL, 1 - ITEM_TAIL])))
-    return lo, hi, 2 * ITEM_TAIL
+    """`part_ranges` of one part."""
+    return part_ranges([part])[0]
 
 
-@lru_cache(maxsize=65536)
-def item_range(d: Distribution) -> tuple[float, float]:
-    """The lowest and highest value an item's grid holds (its point masses included)."""
-    atoms, continuous = d.parts()
-    ends = [v for v, _ in atoms]
-    for _, part in continuous:
-        ends += part_range(part)[:2]
-    return min(ends), max(ends)
+# Items' grid ranges already computed.
+_item_ranges: dict[Distribution, tuple[float, float]] = {}
+
+
+def item_ranges(dists: Sequence[Distribution]) -> tuple[np.ndarray, np.ndarray]:
+    """The lowest and highest value each item's grid holds (its point masses included)."""
+    lows, highs = np.array(kept(_item_ranges, dists, _item_ranges_of)).T
+    return lows, highs
+
+
+def _item_ranges_of(new: list[Distribution]) -> list[tuple[float, float]]:
+    ranges = iter(part_ranges([part for d in new for _, part in d.parts()[1]]))
+    out = []
+    for d in new:
+        atoms, continuous = d.parts()
+        ends = [v for v, _ in atoms]
+        for _ in continuous:
+            ends += next(ranges)[:2]
+        out.append((min(ends), max(ends)))
+    return out
 
 
 class TooWideForOneGrid(ValueError):
@@ -114,9 +146,9 @@ def plan_grid(dists: Sequence[Distribution], resolution: int) -> GridPlan:
         scale = math.sqrt(math.fsum(d.variance for d in dists))
     step = scale / resolution
     widest, most = None, 0.0
-    for i, d in enumerate(dists):
-        for _, part in d.parts()[1]:
-            lo, hi, folded = part_range(part)
-            if folded and (hi - lo) / step > most:
-                widest, most = i, (hi - lo) / step
+    owners = [i for i, d in enumerate(dists) for _ in d.parts()[1]]
+    parts = [part for d in dists for _, part in d.parts()[1]]
+    for i, (lo, hi, folded) in zip(owners, part_ranges(parts), strict=True):
+        if folded and (hi - lo) / step > most:
+            widest, most = i, (hi - lo) / step
     return GridPlan(step, widest if most > WIDE_POINTS else None)

@@ -22,11 +22,18 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import fft as sp_fft
 
-from engine.exact.grid_plan import central_spreads, item_range
-from engine.exact.item_spectra import SpectraPlan, gridded_spectra, partial_spectrum
+from engine.exact.grid_plan import central_spreads, item_ranges
+from engine.exact.item_spectra import (
+    PartialSpectrum,
+    SpectraPlan,
+    gridded_lattices,
+    gridded_spectra,
+    partial_spectrum,
+)
 from engine.exact.lattice import Lattice, trim
 from engine.families.distributions import Distribution
 from engine.progress import Progress
+from engine.threads import run_pair
 
 # Mass the window may leave outside on each side (it folds back onto the other end).
 TAIL_OUTSIDE = 1e-16
@@ -69,26 +76,18 @@ class SpectralSum:
         step, plan = self.step, self.plan
         first, count = window(self.dists, step)
         t_all = 2 * math.pi * np.arange(count // 2 + 1) / (count * step)
-        # how many frequencies matter: the bound from the items without gridded parts, in
-        # blocks from the lowest frequency up
-        bins, blocks = 0, []
-        # first guess: a normal with the items' central spread has died out by t = 8.9 / S
-        spread = math.sqrt(float(np.sum(central_spreads(self.dists) ** 2)))
-        size = max(MIN_BLOCK, math.ceil(1.25 * 8.9 / spread * count * step / (2 * math.pi)))
-        while bins < len(t_all):
-            t = t_all[bins : bins + size]
-            blocks.append(partial_spectrum(plan, t, step, self.anchors))
-            loud = np.flatnonzero(np.abs(blocks[-1].closed) >= NEGLIGIBLE_SPECTRUM)
-            progress.report(0.3 * (bins + len(t)) / len(t_all))
-            if len(loud) < len(t):  # it has fallen below floating point within this block
-                bins += int(loud[-1]) + 1 if len(loud) else 0
-                break
-            bins += len(t)
-            size = max(MIN_BLOCK, size // 2)
-        t = t_all[:bins]
+        # the gridded parts' hat masses (most of a first call's work at thousands of PERT or
+        # lognormal items) on the other core while this one finds the frequencies in use
         gridded = None
         if plan.gridded:
-            gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins)
+            (blocks, bins), masses = run_pair(
+                lambda: self._blocks(t_all, count, progress),
+                lambda: gridded_lattices(plan, step, count),
+            )
+            gridded, self.folded = gridded_spectra(plan, step, self.anchors, count, bins, masses)
+        else:
+            blocks, bins = self._blocks(t_all, count, progress)
+        t = t_all[:bins]
         progress.report(0.7)
         parts, done = [], 0
         for block in blocks:
@@ -108,6 +107,28 @@ class SpectralSum:
         fine = _cells(total, t, step, count, first, base)
         coarse = _cells(total, t, 2 * step, count // 2, first // 2, base // 2)
         return fine, coarse
+
+    def _blocks(
+        self, t_all: np.ndarray, count: int, progress: Progress
+    ) -> tuple[list[PartialSpectrum], int]:
+        """The closed-form items' product in blocks from the lowest frequency up, until it
+        falls below floating point; and how many frequencies matter (the bound from the
+        items without gridded parts)."""
+        bins, blocks = 0, []
+        # first guess: a normal with the items' central spread has died out by t = 8.9 / S
+        spread = math.sqrt(float(np.sum(central_spreads(self.dists) ** 2)))
+        size = max(MIN_BLOCK, math.ceil(1.25 * 8.9 / spread * count * self.step / (2 * math.pi)))
+        while bins < len(t_all):
+            t = t_all[bins : bins + size]
+            blocks.append(partial_spectrum(self.plan, t, self.step, self.anchors))
+            loud = np.flatnonzero(np.abs(blocks[-1].closed) >= NEGLIGIBLE_SPECTRUM)
+            progress.report(0.3 * (bins + len(t)) / len(t_all))
+            if len(loud) < len(t):  # it has fallen below floating point within this block
+                bins += int(loud[-1]) + 1 if len(loud) else 0
+                break
+            bins += len(t)
+            size = max(MIN_BLOCK, size // 2)
+        return blocks, bins
 
 
 def _cells(
@@ -131,7 +152,7 @@ def window(dists: Sequence[Distribution], step: float) -> tuple[int, int]:
     """(first grid index, number of points) of a window holding the total but 1e-16 of it
     on each side: the items' own ranges added up, or the mean plus or minus the smaller of
     Hoeffding's and Bernstein's bounds (items clipped at their ranges), when narrower."""
-    lows, highs = np.array([item_range(d) for d in dists]).T
+    lows, highs = item_ranges(dists)
     means = [d.mean for d in dists]
     variances = [d.variance for d in dists]
     low, high, mean = math.fsum(lows), math.fsum(highs), math.fsum(means)

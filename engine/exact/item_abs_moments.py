@@ -11,32 +11,32 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from engine.exact.item_cache import kept
 from engine.exact.stacked_parts import stacked
 from engine.families.distributions import Continuous, Distribution
 
-# Items' values already computed: items outlive analyses, so an edit computes one more.
+# Items' values already computed (engine.exact.item_cache).
 _known: dict[Distribution, float] = {}
 
 
 def abs_moments3(dists: Sequence[Distribution]) -> np.ndarray:
     """E|X - mean|^3 of each item."""
-    new = [d for d in dict.fromkeys(dists) if d not in _known]
-    if new:
-        sums = np.zeros(len(new))
-        families: dict[type, list[tuple[int, float, float, Continuous]]] = {}
-        for row, d in enumerate(new):
-            c = d.mean
-            atoms, continuous = d.parts()
-            sums[row] = sum(mass * abs(value - c) ** 3 for value, mass in atoms)
-            for weight, part in continuous:
-                families.setdefault(type(part), []).append((row, weight, c, part))
-        for members in families.values():
-            rows, weights, about, parts = (list(col) for col in zip(*members, strict=True))
-            np.add.at(sums, rows, np.array(weights) * _continuous(parts, np.array(about)))
-        if len(_known) > 65536:
-            _known.clear()
-        _known.update(zip(new, sums.tolist(), strict=True))
-    return np.array([_known[d] for d in dists])
+    return np.array(kept(_known, dists, _abs_moments3))
+
+
+def _abs_moments3(new: list[Distribution]) -> list[float]:
+    sums = np.zeros(len(new))
+    families: dict[type, list[tuple[int, float, float, Continuous]]] = {}
+    for row, d in enumerate(new):
+        c = d.mean
+        atoms, continuous = d.parts()
+        sums[row] = sum(mass * abs(value - c) ** 3 for value, mass in atoms)
+        for weight, part in continuous:
+            families.setdefault(type(part), []).append((row, weight, c, part))
+    for members in families.values():
+        rows, weights, about, parts = (list(col) for col in zip(*members, strict=True))
+        np.add.at(sums, rows, np.array(weights) * _continuous(parts, np.array(about)))
+    return sums.tolist()
 
 
 def _continuous(parts: list[Continuous], c: np.ndarray) -> np.ndarray:

@@ -8,6 +8,7 @@ simulation by a standard error per percentile.
 
 from __future__ import annotations
 
+import copy
 import math
 from dataclasses import dataclass, field
 
@@ -129,10 +130,22 @@ class GridTotal(Total):
         atom = (self.masses > ATOM_RATIO * neighbours) & (self.masses > 1e-9)
         object.__setattr__(self, "_atom_cell", atom)
 
+    def with_error(self, bound: float, probability: float) -> GridTotal:
+        """This total with its error estimate; the running sums are kept, not recomputed."""
+        out = copy.copy(self)
+        object.__setattr__(out, "error_bound", bound)
+        object.__setattr__(out, "error_probability", probability)
+        return out
+
     @property
     def edges(self) -> np.ndarray:
         n = len(self.masses)
         return self.origin + (np.arange(n + 1) - 0.5) * self.step
+
+    @property
+    def edges_cdf(self) -> np.ndarray:
+        """The cdf at `edges` (a point mass sits at its cell's centre, inside the cell)."""
+        return self._edges_cum
 
     @property
     def values(self) -> np.ndarray:

@@ -49,6 +49,9 @@ def item_drivers(
     var_total = contrib.sum()
     k3 = np.array([d.mu3 for d in dists])
     k3_total = k3.sum()
+    # the shares as Python floats in one pass each (a numpy scalar per item cost ~1 us)
+    var_share = (contrib / var_total if var_total > 0 else np.zeros(len(dists))).tolist()
+    skew_share = (k3 / k3_total if abs(k3_total) > 1e-300 else np.zeros(len(dists))).tolist()
     drivers = [
         ItemDriver(
             name=item.name,
@@ -57,15 +60,15 @@ def item_drivers(
             probability=item.probability,
             mean=d.mean,
             sd=d.sd,
-            variance_share=float(c / var_total) if var_total > 0 else 0.0,
-            skew_share=float(k / k3_total) if abs(k3_total) > 1e-300 else 0.0,
+            variance_share=v,
+            skew_share=k,
             rank_correlation_with_total=(
                 float(rank_with_total[i])
                 if rank_with_total is not None and np.isfinite(rank_with_total[i])
                 else None
             ),
         )
-        for i, (item, d, c, k) in enumerate(zip(items, dists, contrib, k3, strict=True))
+        for i, (item, d, v, k) in enumerate(zip(items, dists, var_share, skew_share, strict=True))
     ]
     return sorted(drivers, key=lambda r: -abs(r.variance_share))
 
@@ -94,9 +97,9 @@ def kolmogorov_gap(total: Total, shortcut: Cumulants | None = None) -> NormalGap
         gaps = np.maximum(upper, lower)
         i = int(np.argmax(gaps))
         return NormalGap(float(gaps[i]), float(x[i]), float(100 * (i + 0.5) / n))
-    if isinstance(total, GridTotal):
+    if isinstance(total, GridTotal):  # at a cell's edge its cdf is the masses' running sum
         x = total.edges
-        cdf = total.cdf(x)
+        cdf = total.edges_cdf
     else:
         x = total.support_grid()
         cdf = total.cdf(x)
