@@ -202,3 +202,21 @@ def test_two_too_wide_items_correlated_are_refused_not_crashed() -> None:
         analyze(linked, trials=10_000, seed=3)
     (problem,) = caught.value.problems
     assert problem.item == "Market risk" and "independent" in problem.fix
+
+
+def test_a_rare_large_risk_beside_small_items_is_resolved_where_the_probability_is() -> None:
+    # A 3.17% chance of about 800k beside a 60% chance of about 120: the event's spread set
+    # the step to ~78, over the small item's whole range (P50 came out 84 where it is 114,
+    # 0.12 off in probability). The check at twice the step now sends the total to finer
+    # grids. Reference: below the event's low end F(t) = (1 - p_b)(1 - p_s + p_s F_S(t)),
+    # F_S the PERT's beta cdf (alpha = 1 + 4 (m - a) / (b - a); Malcolm et al. 1959), scipy.
+    big = LineItem("Claim", "pert", 741_260.0, 810_800.0, 1_436_900.0, probability=0.0317)
+    small = LineItem("Permit", "pert", 97.2, 123.0, 194.1, probability=0.5995)
+    a = analyze(_estimate(big, small), method="exact", levels=(50, 80, 90))
+    lo, ml, hi = 97.2, 123.0, 194.1
+    beta = stats.beta(1 + 4 * (ml - lo) / (hi - lo), 1 + 4 * (hi - ml) / (hi - lo), lo, hi - lo)
+    for row in a.levels:
+        f = (1 - 0.0317) * (1 - 0.5995 + 0.5995 * beta.cdf(row.value))
+        error = abs(f - row.level / 100)
+        assert error <= 1e-5, (row.level, row.value, error)  # was 0.12
+        assert error <= a.total.error_probability  # the bound covers the error

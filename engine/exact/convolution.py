@@ -50,6 +50,13 @@ SPECTRAL_COARSENING = 5
 REST_RESOLUTION = 400
 # Longest grid of the rest beside an item kept off it.
 REST_POINTS = 1 << 15
+# A total whose check at twice the step is further off than the accuracy asked (1e-5 in
+# probability) is computed again on a grid fine enough for REFINE_TO, at most REFINEMENTS
+# times and on at most MAX_REFINED_POINTS points (an FFT of 4M points: about a second).
+REFINE_ABOVE = 1e-5
+REFINE_TO = 1e-6
+REFINEMENTS = 3
+MAX_REFINED_POINTS = 1 << 22
 # Points in one stacked FFT of a tree level's merges (bounds its memory to ~100 MB).
 BATCH_POINTS = 1 << 22
 # Largest product of two lattices' lengths convolved directly rather than by FFT.
@@ -108,7 +115,8 @@ def _exact_total(
         return PointTotal(shift)
     plan = plan_grid(uncertain, resolution)
     if plan.wide is None:
-        return grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
+        total = grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
+        return _refined(total, uncertain, shift, plan.step, cumulants, progress)
     others = uncertain[: plan.wide] + uncertain[plan.wide + 1 :]
     if not others:
         return wide_item_total(uncertain[plan.wide], PointTotal(shift), cumulants, 0.0)
@@ -123,6 +131,33 @@ def _exact_total(
     return wide_item_total(
         uncertain[plan.wide], rest, cumulants, getattr(rest, "truncated_mass", 0.0)
     )
+
+
+def _refined(
+    total: GridTotal,
+    dists: Sequence[Distribution],
+    shift: float,
+    step: float,
+    cumulants: Cumulants,
+    progress: Progress,
+) -> GridTotal:
+    """The total again on finer grids while the check at twice the step says the body is
+    not resolved: a rare large risk event sets the items' spread, and the step with it, far
+    above the spread of the body where most of the probability is (a 3% chance of 800k
+    beside items of about 100: P50 84 where it is 114, 0.12 off in probability). The error
+    falls as the step squared; the grid stays within MAX_REFINED_POINTS."""
+    for _ in range(REFINEMENTS):
+        if total.error_probability <= REFINE_ABOVE:
+            break
+        finer = step * max(0.05, math.sqrt(REFINE_TO / total.error_probability))
+        points = window(dists, finer)[1]
+        if points > MAX_REFINED_POINTS:
+            finer *= points / MAX_REFINED_POINTS
+        if finer >= 0.7 * step:
+            break
+        step = finer
+        total = grid_total(dists, shift, step, cumulants, progress)
+    return total
 
 
 def grid_total(
