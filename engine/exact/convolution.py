@@ -116,6 +116,8 @@ def _exact_total(
     plan = plan_grid(uncertain, resolution)
     if plan.wide is None:
         total = grid_total(uncertain, shift, plan.step, cumulants, progress, check_error)
+        if not check_error:  # no check, nothing to refine by
+            return total
         return _refined(total, uncertain, shift, plan.step, cumulants, progress)
     others = uncertain[: plan.wide] + uncertain[plan.wide + 1 :]
     if not others:
