@@ -21,7 +21,12 @@ from engine.allocation.confidence import Confidence, confidence_of
 from engine.allocation.exact_shares import conditional_means
 from engine.allocation.naive import naive_shares
 from engine.allocation.risk_ranking import RankedRisk, rank_risk_events
-from engine.allocation.simulated_shares import jackknife_error, simulated_means, window_edges
+from engine.allocation.simulated_shares import (
+    gathered,
+    jackknife_error,
+    simulated_means,
+    window_edges,
+)
 from engine.items import Estimate
 from engine.progress import Progress
 from engine.validation import base_value, build_distribution
@@ -145,7 +150,7 @@ def allocate(
     else:
         method = "simulation"
         assert analysis.seed is not None and analysis.trials is not None
-        found = simulated_means(
+        found = gathered(analysis.kernel_sums, totals) or simulated_means(
             dists,
             analysis.dependence,
             totals,
