@@ -42,14 +42,6 @@ def _centred_ranks(rows: int, n: int) -> np.ndarray:
     return tiled
 
 
-@lru_cache(maxsize=2)
-def _row_starts(rows: int, n: int) -> np.ndarray:
-    """Where each row of a (rows, n) array starts in its ravel, as a column."""
-    starts = (np.arange(rows) * n)[:, None]
-    starts.setflags(write=False)
-    return starts
-
-
 # Trials whose ranks are gathered (the first replicates of each lane, so the same on every
 # machine): rank correlations from 50,000 trials are within about 0.005 of those from all,
 # and ranking every trial of 10,000 items cost a sixth of the run.
@@ -93,17 +85,12 @@ class CorrelatedSampleStatistics:
             self.ranked_trials[lane] += n
 
     def _ranks(self, lane: int, values: np.ndarray, total: np.ndarray, positions: np.ndarray):
-        count, n = values.shape
+        n = values.shape[1]
         spread = n * (n * n - 1) / 12  # sum of squared centred ranks 0..n-1
-        work = self.work[lane]
-        if self.measured is None:
-            where = positions
-        else:  # the measured items' positions, as rows 0, 1, ... of their own array
-            shift = self.measured * n - np.arange(len(self.measured)) * n
-            where = positions[self.measured] - shift[:, None]
-        centred = work.get("centred", where.shape, np.float32)  # ranks less their mean
-        centred.reshape(-1)[where.ravel()] = _centred_ranks(*where.shape)
-        self.rank_sum[lane] += (centred @ centred.T).astype(float) / spread
+        centred = self.work[lane].get("centred", values.shape, np.float32)  # ranks less mean
+        centred.reshape(-1)[positions.ravel()] = _centred_ranks(*values.shape)
+        some = centred if self.measured is None else centred[self.measured]
+        self.rank_sum[lane] += (some @ some.T).astype(float) / spread
 
         order_total = np.argsort(total, kind="stable")
         t = np.empty(n)
@@ -112,23 +99,22 @@ class CorrelatedSampleStatistics:
         t_norm = np.sqrt(t @ t)
         if t_norm == 0:
             self.with_total_sum[lane] += np.nan
-            return
-        # each item's values in increasing order, beside the total's rank at their trials:
-        # the sum of rank products needs no item's ranks put back in trial order
-        trial = work.get("trial", values.shape, np.intp)
-        np.subtract(positions, _row_starts(count, n), out=trial)
-        beside = t.astype(np.float32).take(trial, out=work.get("beside", values.shape, np.float32))
-        products = beside @ _centred_ranks(1, n)
-        norms = np.full(count, np.sqrt(spread))
-        if len(self.can_tie):
-            # the items with point masses, ranked again with ties averaged (row r of `tied`
-            # is item can_tie[r], in increasing order of its values)
-            tied = tie_averaged_ranks(values.reshape(-1)[positions[self.can_tie]])
-            tied -= tied.mean(axis=1, keepdims=True)
-            products[self.can_tie] = np.einsum("ij,ij->i", tied, beside[self.can_tie])
-            norms[self.can_tie] = np.sqrt(np.einsum("ij,ij->i", tied, tied))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            self.with_total_sum[lane] += products / (norms * t_norm)
+        else:
+            norms = np.full(len(values), np.sqrt(spread))
+            if len(self.can_tie):
+                # the items with point masses, re-ranked together: ranks in sorted order,
+                # then put back in trial order (row r of `tied` is item can_tie[r])
+                where = positions[self.can_tie]
+                ranks = tie_averaged_ranks(values.reshape(-1)[where])
+                where -= (self.can_tie * n - np.arange(len(self.can_tie)) * n)[:, None]
+                tied = np.empty(where.shape)
+                tied.reshape(-1)[where.ravel()] = ranks.ravel()
+                tied -= tied.mean(axis=1, keepdims=True)
+                centred[self.can_tie] = tied
+                wide = centred[self.can_tie].astype(float)
+                norms[self.can_tie] = np.sqrt(np.sum(wide * wide, axis=1))
+            with np.errstate(invalid="ignore", divide="ignore"):
+                self.with_total_sum[lane] += (centred @ t.astype(np.float32)) / (norms * t_norm)
 
     @staticmethod
     def _mean(sums: np.ndarray, count: np.ndarray) -> np.ndarray:
