@@ -87,7 +87,19 @@ def sorted_designs(
         u = rng.random((rows, n), out=out)
         u.sort(axis=1)
         return u
-    u = rng.random(n).take(order, out=out)
+    return lhs_scores(rng.random(n), order, mirrored, out)
+
+
+def lhs_scores(
+    w: np.ndarray,
+    order: np.ndarray,
+    mirrored: np.ndarray | None = None,
+    out: np.ndarray | None = None,
+) -> np.ndarray:
+    """sorted_designs' Latin hypercube for rows whose k-th smallest value goes to trial
+    order[i, k], the trials' positions inside their strata being w (n,)."""
+    n = order.shape[1]
+    u = w.take(order, out=out)
     if mirrored is not None and len(mirrored):
         u[mirrored] = 1 - u[mirrored]
     u += _strata(n)
@@ -158,25 +170,43 @@ class PairedReplicates:
         pairing: Pairing,
     ):
         self.shape = (len(dists), per)
-        self.seeds = np.random.SeedSequence(seed).spawn(replicates)
+        # each replicate's two streams, spawned once (spawning again would give new ones)
+        self.seeds = [s.spawn(2) for s in np.random.SeedSequence(seed).spawn(replicates)]
         self.sampling, self.pairing = sampling, pairing
         self.sampler = BatchSampler(dists)
         self.mirrored = getattr(pairing, "mirrored", None)  # items ranked against the rest
         self.row_starts = (np.arange(len(dists)) * per)[:, None]
+        # per kind of item: its rows, their sampler, which of them are mirrored, row starts
+        mirrored = np.zeros(len(dists), dtype=bool)
+        if self.mirrored is not None:
+            mirrored[self.mirrored] = True
+        self.kinds = [
+            (rows, sample, np.flatnonzero(mirrored[rows]), self.row_starts[rows])
+            for rows, sample in self.sampler.groups
+        ]
 
     def draw(self, r: int, work: Workspace, total: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Replicate r's item values (items, trials) and their positions (see Observer), its
         total written into `total`; the arrays are `work`'s, valid until the next draw."""
         shape = self.shape
-        pairing_rng, design_rng = (np.random.default_rng(s) for s in self.seeds[r].spawn(2))
+        pairing_rng, design_rng = (np.random.default_rng(s) for s in self.seeds[r])
         positions = self.pairing(pairing_rng, *shape, work)
-        design = sorted_designs(
-            design_rng, positions, self.sampling, work.get("u", shape, float), self.mirrored
-        )
-        positions += self.row_starts  # order within each row -> index into values.ravel()
-        drawn = self.sampler(design, out=work.get("drawn", shape, float))
         values = work.get("values", shape, float)
-        values.reshape(-1)[positions.ravel()] = drawn.ravel()
+        if self.sampling == "lhs":  # kind by kind: no (items, trials) scores or draws kept
+            w = design_rng.random(shape[1])
+            for rows, sample, mirrored, starts in self.kinds:
+                order = positions[rows]
+                drawn = sample(lhs_scores(w, order, mirrored))
+                order += starts  # order within each row -> index into values.ravel()
+                values.reshape(-1)[order.ravel()] = drawn.ravel()
+            positions += self.row_starts
+        else:
+            design = sorted_designs(
+                design_rng, positions, self.sampling, work.get("u", shape, float)
+            )
+            positions += self.row_starts
+            drawn = self.sampler(design, out=work.get("drawn", shape, float))
+            values.reshape(-1)[positions.ravel()] = drawn.ravel()
         np.sum(values, axis=0, out=total)
         return values, positions
 
