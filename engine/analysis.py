@@ -364,11 +364,12 @@ def simulate_correlated(
     pairing = pairing_for(aims)
     measured = measured_items(aims.structure)
     stats = CorrelatedSampleStatistics(dists, measured)
-    windows = LevelWindows(levels)
+    windows = LevelWindows(levels, len(dists))
 
     def observe(lane: int, values: np.ndarray, total: np.ndarray, positions: np.ndarray) -> None:
         stats(lane, values, total, positions)
-        windows(lane, values, total, positions)
+        if windows.batches:
+            windows(lane, values, total, positions)
 
     pending = beside(lambda: exact_total(dists, progress=tracker.silent(), check_error=False))
     run = {
@@ -380,15 +381,19 @@ def simulate_correlated(
         "min_per_replicate": fewest_per_replicate(aims, len(dists)),
     }
     try:
-        total = simulate(**run, observe=observe, progress=tracker.part(0, 1 - REDRAWN_SHARE))
-        lanes = windows.pilots(len(total.by_replicate))
-        again = tracker.part(1 - REDRAWN_SHARE, REDRAWN_SHARE)
-        redraw(**run, lanes=lanes, observe=windows.again, progress=again)
+        share = REDRAWN_SHARE if windows.batches else 0.0
+        total = simulate(**run, observe=observe, progress=tracker.part(0, 1 - share))
+        if windows.batches:
+            lanes = windows.pilots(len(total.by_replicate))
+            again = tracker.part(1 - share, share)
+            redraw(**run, lanes=lanes, observe=windows.again, progress=again)
         independent = pending.result()
     finally:
         pending.cancel()
-    q = np.asarray([float(lv) for lv in levels]) / 100  # as level_rows reads them
-    kernel_sums = windows.settle(total, total.ppf(q), window_edges(total, levels))
+    kernel_sums = None
+    if windows.batches:
+        q = np.asarray([float(lv) for lv in levels]) / 100  # as level_rows reads them
+        kernel_sums = windows.settle(total, total.ppf(q), window_edges(total, levels))
     sds = np.array([d.sd for d in dists])
     deviation, worst, summary = achieved_against(aims, stats.achieved, measured)
     dependence = Dependence(

@@ -130,3 +130,23 @@ def test_levels_on_point_masses_fall_back_to_the_rerun() -> None:
     for row in allocate(est, analysis).levels:
         assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
         assert row.standard_errors is not None
+
+
+def test_many_levels_use_fewer_groups_or_none(monkeypatch: pytest.MonkeyPatch) -> None:
+    # The grid sums grow with levels x items: within the memory bound there are fewer
+    # jackknife groups; below the fewest, none are gathered and the allocation draws the
+    # run again. Either way the shares add up and come with standard errors.
+    from engine.simulation import level_windows
+
+    items = mixed_items(40)
+    est = Estimate(items=items, correlation=CorrelationSpec(default=0.3))
+    levels = (10, 30, 50, 70, 90)
+    each = 2 * len(levels) * 2 * level_windows.NODES * len(items) * 8
+    for memory, groups in ((5 * each, 10), (each, None)):
+        monkeypatch.setattr(level_windows, "MEMORY", memory)
+        analysis = analyze(est, levels=levels, trials=40_000, seed=6)
+        sums = analysis.kernel_sums
+        assert (sums is None) if groups is None else (sums.a.shape[0] == groups)
+        for row in allocate(est, analysis).levels:
+            assert math.fsum(row.shares) == pytest.approx(row.contingency, abs=1e-9 * row.total)
+            assert row.standard_errors is not None and min(row.standard_errors) > 0

@@ -17,7 +17,9 @@ times its square) come from the totals of every trial, through the same weights,
 fitted shares still add up to exactly P_q. The pilots are drawn again at the end into the
 same grid sums (about a tenth of the run at 10,000 items). Replicate i of a lane goes to
 jackknife group i mod BATCHES, which bounds memory at 2 lanes x BATCHES x levels x 2 NODES x
-items doubles (230 MB at 10,000 items and three levels).
+items doubles (230 MB at 10,000 items and three levels); with more levels there are fewer
+groups, so that the sums stay within MEMORY, and with many levels at many items none are
+gathered (`batches` is 0) and the allocation draws the run again.
 """
 
 from __future__ import annotations
@@ -40,6 +42,8 @@ PILOT_TRIALS = 5_000  # per lane
 MARGIN = 5.0  # binomial standard errors of the pilot's percentiles, each side
 NODES = 24  # grid points per level and lane
 BATCHES = 10  # jackknife groups per lane: equal ones for the usual 20, 100 or 200 replicates
+FEWEST_BATCHES = 4  # per lane; fewer and the jackknife's error is itself too uncertain
+MEMORY = 256 << 20  # bytes of grid sums, at most: fewer groups for many levels, or none
 FINEST = 3.0  # a grid step is at most the tent's half-width over this
 
 
@@ -106,8 +110,11 @@ class LevelWindows:
     sums in the run; `pilots()` then names the replicates to draw again for `again`, and
     `settle` gives the sums once the pooled levels are known (None if the grid misses)."""
 
-    def __init__(self, levels: Sequence[float]):
+    def __init__(self, levels: Sequence[float], items: int):
         self.q = np.asarray([float(lv) for lv in levels]) / 100
+        each = PARTS * len(self.q) * 2 * NODES * items * 8  # bytes per group of each lane
+        fitting = min(BATCHES, MEMORY // each)
+        self.batches = fitting if fitting >= FEWEST_BATCHES else 0
         self.seen = [0] * PARTS
         self.redrawn = [0] * PARTS
         self.pilot_totals: list[list[np.ndarray]] = [[] for _ in range(PARTS)]
@@ -157,7 +164,7 @@ class LevelWindows:
         the hat weight times T - c (f (1 - f) step, of either sign), in rows NODES on."""
         lows, steps = self.grids[lane]
         batch = self.sums[lane].setdefault(
-            i % BATCHES, np.zeros((len(self.q), 2 * NODES, len(values)))
+            i % self.batches, np.zeros((len(self.q), 2 * NODES, len(values)))
         )
         for j, (low, step) in enumerate(zip(lows, steps, strict=True)):
             if not step > 0:
@@ -201,7 +208,7 @@ class LevelWindows:
             nodes = lows[:, None] + steps[:, None] * np.arange(NODES)
             weight = [tent(nodes[j], t[j], below[j], above[j]) for j in range(len(t))]
             for batch, sums in sorted(self.sums[lane].items()):
-                rows = by_replicate[list(part)[batch::BATCHES]].ravel()
+                rows = by_replicate[list(part)[batch :: self.batches]].ravel()
                 groups.append(self._group(rows, sums, nodes, weight, t, lows, steps))
         s0, s1, s2, a, b, counts = (np.array([g[k] for g in groups]) for k in range(6))
         return KernelSums(t, s0, s1, s2, a, b, counts)
