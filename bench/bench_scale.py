@@ -128,21 +128,22 @@ def correlated_cases(n: int) -> None:
 INDEPENDENT = r"""
 import json, sys, time
 sys.path.insert(0, {root!r})
-from engine import analyze
+from engine import CorrelationSpec, analyze
 from fileio.project import load_project
 estimate = load_project({path!r})[0]
-start = time.perf_counter()
+estimate.correlation = CorrelationSpec()
+start, cpu = time.perf_counter(), time.process_time()
 analyze(estimate, method="simulation", trials=100_000, seed=1, levels=(50, 80, 90))
-print(json.dumps({{"seconds": time.perf_counter() - start}}))
+print(json.dumps({{"seconds": time.perf_counter() - start, "cpu": time.process_time() - cpu}}))
 """
 
 
-def independent_seconds(path: str) -> float:
-    """The same items' independent simulation (`analyze`, no correlation, no file or
-    report), wall clock in its own process."""
+def independent(path: str) -> dict:
+    """The same items' independent simulation (`analyze`, every coefficient 0, no file or
+    report): wall and CPU seconds in its own process."""
     code = INDEPENDENT.format(root=str(ROOT), path=path)
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    return json.loads(out.stdout.strip().splitlines()[-1])["seconds"]
+    return json.loads(out.stdout.strip().splitlines()[-1])
 
 
 def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
@@ -150,7 +151,7 @@ def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
     print(f"A = {ROOT}, B = {other}; correlated report to JSON, 100k trials, {rounds} rounds")
     print(
         f"{'case':30} {'A wall min/med':>15} {'B wall min/med':>15} {'ratio':>6} "
-        f"{'A cpu med':>9} {'B cpu med':>9} {'A MB':>6} {'B MB':>6} {'indep. s':>8}"
+        f"{'A cpu med':>9} {'B cpu med':>9} {'A MB':>6} {'B MB':>6} {'indep. s, cpu':>14}"
     )
     with tempfile.TemporaryDirectory() as folder:
         for n in sizes:
@@ -163,12 +164,12 @@ def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
                 for _ in range(rounds):
                     got["A"].append(command(argv, ROOT))
                     got["B"].append(command(argv, other))
-                free = independent_seconds(path)
+                free = independent(path)
                 a, b = (summary(got[k]) for k in "AB")
                 print(
                     f"{n:,} items, {kind:18} {a['wall']:>15} {b['wall']:>15} "
                     f"{a['median'] / b['median']:6.2f} {a['cpu']:9.1f} {b['cpu']:9.1f} "
-                    f"{a['peak']:6.0f} {b['peak']:6.0f} {free:8.1f}",
+                    f"{a['peak']:6.0f} {b['peak']:6.0f} {free['seconds']:6.1f} {free['cpu']:7.1f}",
                     flush=True,
                 )
 
