@@ -15,9 +15,9 @@ step, a step being at most a third of the tent's half-width (else the sums are r
 the allocation draws the run again). The fit's own sums (of the weights, times T - P_q,
 times its square) come from the totals of every trial, through the same weights, so the
 fitted shares still add up to exactly P_q. The pilots are drawn again at the end into the
-same grid sums (about a tenth of the run at 10,000 items). Replicate i of a lane goes to
+same grid sums (about a twentieth of the run at 10,000 items). Replicate i of a lane goes to
 jackknife group i mod BATCHES, which bounds memory at 2 lanes x BATCHES x levels x 2 NODES x
-items doubles (230 MB at 10,000 items and three levels); with more levels there are fewer
+items doubles (270 MB at 10,000 items and three levels); with more levels there are fewer
 groups, so that the sums stay within MEMORY, and with many levels at many items none are
 gathered (`batches` is 0) and the allocation draws the run again.
 """
@@ -38,12 +38,12 @@ from engine.threads import PARTS, halves
 # near the ends (common practice for kernel regression, no source; the bias is measured in
 # tests/test_allocation_simulated.py).
 WINDOW = 0.02
-PILOT_TRIALS = 5_000  # per lane
+PILOT_TRIALS = 2_500  # per lane
 MARGIN = 5.0  # binomial standard errors of the pilot's percentiles, each side
-NODES = 24  # grid points per level and lane
+NODES = 28  # grid points per level and lane
 BATCHES = 10  # jackknife groups per lane: equal ones for the usual 20, 100 or 200 replicates
 FEWEST_BATCHES = 4  # per lane; fewer and the jackknife's error is itself too uncertain
-MEMORY = 256 << 20  # bytes of grid sums, at most: fewer groups for many levels, or none
+MEMORY = 300 << 20  # bytes of grid sums, at most: fewer groups for many levels, or none
 FINEST = 3.0  # a grid step is at most the tent's half-width over this
 
 
