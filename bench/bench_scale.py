@@ -7,11 +7,17 @@ with numpy and sum it. The correlated cases run the command line itself (`check`
 invented project file of 10,000 items with a default correlation of 0.3, or eight groups at
 0.5; targets: `check` under 5 s, `report` under 30 s and 1.5 GB. CPU seconds are printed beside the wall clock: on a shared machine the wall
 clock measures the other users too. Run: .venv/bin/python bench/bench_scale.py [--quick]
+
+`--against OTHER_CHECKOUT [--sizes 10000,2000,200] [--rounds 2]` times the correlated
+`report` of this checkout and of another (e.g. a worktree of main) taking turns, each run
+in a fresh process, on the same project files: min and median of wall and CPU seconds and of
+peak memory, and the ratios; beside them the independent simulation of the same items.
 """
 
 from __future__ import annotations
 
 import json
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -91,8 +97,8 @@ save_project({path!r}, Estimate(items, title="invented depot", correlation=spec)
 """
 
 
-def command(argv: list[str]) -> dict:
-    code = COMMAND.format(root=str(ROOT), argv=argv)
+def command(argv: list[str], root: Path = ROOT) -> dict:
+    code = COMMAND.format(root=str(root), argv=argv)
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
@@ -119,7 +125,74 @@ def correlated_cases(n: int) -> None:
                 )
 
 
+INDEPENDENT = r"""
+import json, sys, time
+sys.path.insert(0, {root!r})
+from engine import CorrelationSpec, analyze
+from fileio.project import load_project
+estimate = load_project({path!r})[0]
+estimate.correlation = CorrelationSpec()
+start, cpu = time.perf_counter(), time.process_time()
+analyze(estimate, method="simulation", trials=100_000, seed=1, levels=(50, 80, 90))
+print(json.dumps({{"seconds": time.perf_counter() - start, "cpu": time.process_time() - cpu}}))
+"""
+
+
+def independent(path: str) -> dict:
+    """The same items' independent simulation (`analyze`, every coefficient 0, no file or
+    report): wall and CPU seconds in its own process."""
+    code = INDEPENDENT.format(root=str(ROOT), path=path)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
+    """`report -o r.json` of this checkout (A) and `other` (B), A, B, A, B... per case."""
+    print(f"A = {ROOT}, B = {other}; correlated report to JSON, 100k trials, {rounds} rounds")
+    print(
+        f"{'case':30} {'A wall min/med':>15} {'B wall min/med':>15} {'ratio':>6} "
+        f"{'A cpu med':>9} {'B cpu med':>9} {'A MB':>6} {'B MB':>6} {'indep. s, cpu':>14}"
+    )
+    with tempfile.TemporaryDirectory() as folder:
+        for n in sizes:
+            for kind in ("default", "groups"):
+                path = str(Path(folder) / f"{kind}{n}.rangefold")
+                code = PROJECT.format(root=str(ROOT), n=n, kind=kind, path=path)
+                subprocess.run([sys.executable, "-c", code], check=True)
+                argv = ["report", path, "-o", str(Path(folder) / "r.json"), "--seed", "1"]
+                got: dict[str, list[dict]] = {"A": [], "B": []}
+                for _ in range(rounds):
+                    got["A"].append(command(argv, ROOT))
+                    got["B"].append(command(argv, other))
+                free = independent(path)
+                a, b = (summary(got[k]) for k in "AB")
+                print(
+                    f"{n:,} items, {kind:18} {a['wall']:>15} {b['wall']:>15} "
+                    f"{a['median'] / b['median']:6.2f} {a['cpu']:9.1f} {b['cpu']:9.1f} "
+                    f"{a['peak']:6.0f} {b['peak']:6.0f} {free['seconds']:6.1f} {free['cpu']:7.1f}",
+                    flush=True,
+                )
+
+
+def summary(runs: list[dict]) -> dict:
+    walls = [r["seconds"] for r in runs]
+    return {
+        "wall": f"{min(walls):.1f}/{statistics.median(walls):.1f}",
+        "median": statistics.median(walls),
+        "cpu": statistics.median(r["cpu"] for r in runs),
+        "peak": max(r["peak_mb"] for r in runs),
+    }
+
+
+def option(name: str, default: str) -> str:
+    return sys.argv[sys.argv.index(name) + 1] if name in sys.argv else default
+
+
 def main() -> None:
+    if "--against" in sys.argv:
+        sizes = [int(x) for x in option("--sizes", "10000,2000,200").split(",")]
+        taking_turns(Path(option("--against", "")), sizes, int(option("--rounds", "2")))
+        return
     quick = "--quick" in sys.argv
     big = 2_000 if quick else 10_000
     cases = [

@@ -50,12 +50,14 @@ from engine.shortcut.normal import (
 )
 from engine.shortcut.verdict import count, dependence_reasons, reasons_for, summary_sentence
 from engine.simulation.factor_pairing import fewest_per_replicate, pairing_for
-from engine.simulation.replicates import new_seed, simulate
+from engine.simulation.level_windows import KernelSums, LevelWindows, window_edges
+from engine.simulation.replicates import new_seed, redraw, simulate
 from engine.simulation.sample_statistics import CorrelatedSampleStatistics
 from engine.threads import beside
 from engine.validation import base_value, build_distribution
 
 DEFAULT_LEVELS = (50.0, 80.0, 90.0)
+REDRAWN_SHARE = 0.05  # of a correlated run's progress bar: the pilots drawn again
 DEFAULT_TOLERANCE = 0.01  # 1% of the total's percentile (common practice, no source)
 METHODS = ("auto", "exact", "simulation")
 SAMPLINGS = ("lhs", "random")
@@ -136,6 +138,8 @@ class Analysis:
     shortcut_cumulants: Cumulants | None = None
     # A schedule of 2+ parallel paths: the total is the finish (engine.schedule).
     paths: PathsSection | None = None
+    # Correlated runs: the allocation's sums near each level, gathered in the run.
+    kernel_sums: KernelSums | None = None
 
     @property
     def berry_esseen(self) -> float:
@@ -263,7 +267,7 @@ def analyze(
     # The shortcut is the items' exact means and variances whatever the method: sample
     # moments would let sampling noise into the gap and the verdict.
     shortcut = cumulants_of(dists)
-    dependence = None
+    dependence = kernel_sums = None
     seed_used = trials_used = sampling_used = None
     if chosen == "exact":
         found = exact_total_or_refusal(items, dists, tracker, shortcut, refuse=method == "exact")
@@ -277,8 +281,8 @@ def analyze(
         sampling_used = sampling
         if linked:
             try:
-                total, dependence, stats = simulate_correlated(
-                    dists, aims, trials, seed_used, sampling, tracker
+                total, dependence, stats, kernel_sums = simulate_correlated(
+                    dists, aims, trials, seed_used, sampling, tracker, levels
                 )
             except TooWideForOneGrid as both:  # the "if independent" column is exact
                 raise too_wide_refusal(
@@ -317,6 +321,7 @@ def analyze(
         item_names=[i.name for i in items],
         dependence=dependence,
         shortcut_cumulants=shortcut,
+        kernel_sums=kernel_sums,
     )
 
 
@@ -357,27 +362,44 @@ def simulate_correlated(
     seed: int,
     sampling: str,
     tracker: Progress,
-) -> tuple[Total, Dependence, CorrelatedSampleStatistics]:
-    """The correlated simulation, its sample statistics, and the same items independent."""
+    levels: Sequence[float] = DEFAULT_LEVELS,
+) -> tuple[Total, Dependence, CorrelatedSampleStatistics, KernelSums | None]:
+    """The correlated simulation, its sample statistics, the same items independent, and
+    the allocation's sums near each level (engine.simulation.level_windows)."""
     factored = aims.model is not None
     pairing = pairing_for(aims)
     measured = measured_items(aims.structure)
     stats = CorrelatedSampleStatistics(dists, measured)
+    windows = LevelWindows(levels, len(dists))
+
+    def observe(lane: int, values: np.ndarray, total: np.ndarray, positions: np.ndarray) -> None:
+        stats(lane, values, total, positions)
+        if windows.batches:
+            windows(lane, values, total, positions)
+
     pending = beside(lambda: exact_total(dists, progress=tracker.silent(), check_error=False))
+    run = {
+        "dists": dists,
+        "trials": trials,
+        "seed": seed,
+        "sampling": sampling,
+        "pairing": pairing,
+        "min_per_replicate": fewest_per_replicate(aims, len(dists)),
+    }
     try:
-        total = simulate(
-            dists,
-            trials=trials,
-            seed=seed,
-            sampling=sampling,
-            pairing=pairing,
-            observe=stats,
-            min_per_replicate=fewest_per_replicate(aims, len(dists)),
-            progress=tracker,
-        )
+        share = REDRAWN_SHARE if windows.batches else 0.0
+        total = simulate(**run, observe=observe, progress=tracker.part(0, 1 - share))
+        if windows.batches:
+            lanes = windows.pilots(len(total.by_replicate))
+            again = tracker.part(1 - share, share)
+            redraw(**run, lanes=lanes, observe=windows.again, progress=again)
         independent = pending.result()
     finally:
         pending.cancel()
+    kernel_sums = None
+    if windows.batches:
+        q = np.asarray([float(lv) for lv in levels]) / 100  # as level_rows reads them
+        kernel_sums = windows.settle(total, total.ppf(q), window_edges(total, levels))
     sds = np.array([d.sd for d in dists])
     deviation, worst, summary = achieved_against(aims, stats.achieved, measured)
     dependence = Dependence(
@@ -394,7 +416,7 @@ def simulate_correlated(
         independent_total=independent,
         achieved_summary=summary,
     )
-    return total, dependence, stats
+    return total, dependence, stats, kernel_sums
 
 
 def _check_settings(estimate, method, levels, trials, sampling, tolerance) -> None:

@@ -21,7 +21,12 @@ from engine.allocation.confidence import Confidence, confidence_of
 from engine.allocation.exact_shares import GridTooCoarse, conditional_means
 from engine.allocation.naive import naive_shares
 from engine.allocation.risk_ranking import RankedRisk, rank_risk_events
-from engine.allocation.simulated_shares import jackknife_error, simulated_means, window_edges
+from engine.allocation.simulated_shares import (
+    gathered,
+    jackknife_error,
+    simulated_means,
+    window_edges,
+)
 from engine.items import Estimate
 from engine.progress import Progress
 from engine.validation import base_value, build_distribution
@@ -176,8 +181,9 @@ def allocate(
     else:
         method, how = "simulation", HOW["simulation"]
     if method == "simulation":
-        # The analysis's own trials when it was simulated; else (exact) trials of their own.
-        found = simulated_means(
+        # The sums the analysis gathered in its own run; else its trials drawn again (or,
+        # for an exact analysis, trials of their own).
+        found = gathered(analysis.kernel_sums, totals) or simulated_means(
             dists,
             analysis.dependence,
             totals,

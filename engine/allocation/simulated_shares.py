@@ -1,12 +1,13 @@
 """E[X_i | T = t] for correlated items, from the trials whose total lies near t.
 
-The correlated simulation is run again with the analysis's seed, so its trials are the
-analysis's own, and each replicate's item values pass by an observer that keeps, for each
-wanted total t, kernel-weighted sums over the trials in a window around t. The conditional
-mean is then the intercept of a weighted local-linear fit of X_i on T - t. Because the
-items add up to T, the intercepts add up to exactly t (the same fit of T on T - t has
-intercept t): the shares need no scaling. Standard errors come from deleting one
-replicate at a time (the jackknife), replicates being independent.
+Kernel-weighted sums over the trials in a window around each wanted total t give the
+conditional mean as the intercept of a weighted local-linear fit of X_i on T - t. Because
+the items add up to T, the intercepts add up to exactly t (the same fit of T on T - t has
+intercept t): the shares need no scaling. Standard errors come from deleting one group of
+replicates at a time (the jackknife), replicates being independent. The analysis gathers
+the sums at its levels during its own run (engine.simulation.level_windows); when it could
+not, the correlated simulation is run again here with the analysis's seed, so its trials
+are the analysis's own, and an observer keeps the sums for the exact tents.
 """
 
 from __future__ import annotations
@@ -22,22 +23,27 @@ from engine.families.distributions import Distribution
 from engine.progress import Progress
 from engine.simulation.factor_pairing import fewest_per_replicate, pairing_for
 from engine.simulation.independent_pairing import IndependentPairing
+from engine.simulation.level_windows import KernelSums, tent_widths, window_edges
 from engine.simulation.replicates import simulate
 from engine.threads import PARTS
 
-# Half-width of the window around P_q, in probability: 2% of the trials on each side, less
-# near the ends (common practice for kernel regression, no source; the bias is measured in
-# tests/test_allocation_simulated.py).
-WINDOW = 0.02
+__all__ = [
+    "SimulatedMeans",
+    "from_sums",
+    "gathered",
+    "jackknife_error",
+    "simulated_means",
+    "window_edges",
+]
 
 
 @dataclass(frozen=True)
 class SimulatedMeans:
     means: np.ndarray  # (items, totals)
     standard_errors: np.ndarray  # (items, totals)
-    jackknife: np.ndarray  # (replicates, items, totals): the estimates, one replicate left out
+    jackknife: np.ndarray  # (groups, items, totals): the estimates, one group left out
     window_trials: np.ndarray  # (totals,): trials with weight in each window
-    total: SampleTotal  # the re-run's total: the analysis's own trials
+    total: SampleTotal | None  # the re-run's total (the analysis's own trials), if re-run
 
 
 class WindowSums:
@@ -94,9 +100,7 @@ def simulated_means(
 ) -> SimulatedMeans:
     """`window_edges`: (low, high) totals bounding each window, e.g. P_(q-0.02), P_(q+0.02)."""
     t = np.asarray(totals, dtype=float)
-    below = np.maximum(t - np.asarray(window_edges[0], dtype=float), 1e-12 * (1 + np.abs(t)))
-    above = np.maximum(np.asarray(window_edges[1], dtype=float) - t, 1e-12 * (1 + np.abs(t)))
-    sums = WindowSums(t, below, above)
+    sums = WindowSums(t, *tent_widths(t, window_edges))
     rerun = simulate(
         dists,
         trials=trials,
@@ -107,18 +111,28 @@ def simulated_means(
         min_per_replicate=0 if aims is None else fewest_per_replicate(aims, len(dists)),
         progress=progress,
     )
-    s0, s1, s2, a, b, counts = sums.stacked()  # (reps, totals) and (reps, items, totals)
+    return from_sums(*sums.stacked(), total=rerun)
+
+
+def from_sums(s0, s1, s2, a, b, counts, total: SampleTotal | None = None) -> SimulatedMeans:
+    """The fit from its sums per jackknife group (group first: (groups, totals) and
+    (groups, items, totals)), e.g. a KernelSums' `sums`."""
     pooled = [x.sum(axis=0) for x in (s0, s1, s2, a, b)]
     means = local_linear(*pooled)
-    reps = s0.shape[0]
     jack = np.array(
         [
             local_linear(*(p - x[r] for p, x in zip(pooled, (s0, s1, s2, a, b), strict=True)))
-            for r in range(reps)
+            for r in range(s0.shape[0])
         ]
     )
-    se = jackknife_error(jack)
-    return SimulatedMeans(means, se, jack, counts.sum(axis=0), rerun)
+    return SimulatedMeans(means, jackknife_error(jack), jack, counts.sum(axis=0), total)
+
+
+def gathered(sums: KernelSums | None, totals: Sequence[float]) -> SimulatedMeans | None:
+    """The fit from the sums the analysis gathered in its run, if they are for `totals`."""
+    if sums is None or not np.array_equal(sums.totals, np.asarray(totals, dtype=float)):
+        return None
+    return from_sums(*sums.sums)
 
 
 def jackknife_error(leave_one_out: np.ndarray) -> np.ndarray:
@@ -127,10 +141,3 @@ def jackknife_error(leave_one_out: np.ndarray) -> np.ndarray:
     reps = leave_one_out.shape[0]
     spread = leave_one_out - leave_one_out.mean(axis=0)
     return np.sqrt((reps - 1) / reps * np.sum(spread * spread, axis=0))
-
-
-def window_edges(total, levels: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
-    """P_(q - w) and P_(q + w) of the total for each level q (percent), w at most WINDOW."""
-    q = np.asarray(levels, dtype=float) / 100
-    half = np.minimum(WINDOW, np.minimum(q, 1 - q) / 2)
-    return total.ppf(q - half), total.ppf(q + half)

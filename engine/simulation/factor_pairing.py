@@ -29,6 +29,8 @@ class FactorPairing:
     def __init__(self, model: FactorModel):
         self.model = model
         self.block = model.block
+        blocks = np.unique(model.block)
+        self.one_block = int(blocks[0]) if len(blocks) == 1 else None
         self.loading = model.loading.astype(np.float32)[:, None]
         self.own = model.own.astype(np.float32)[:, None]
         self.root = model.factor_root.astype(np.float32)
@@ -45,8 +47,11 @@ class FactorPairing:
         z *= self.own
         factors = self.root @ rng.standard_normal((len(self.root), n), dtype=np.float32)
         shared = work.get("shared", (items, n), np.float32)
-        np.take(factors, self.block, axis=0, out=shared)
-        shared *= self.loading
+        if self.one_block is not None:  # a default alone: one factor, in one pass
+            np.multiply(self.loading, factors[self.one_block], out=shared)
+        else:
+            np.take(factors, self.block, axis=0, out=shared)
+            shared *= self.loading
         z += shared
         if self.pair_terms.shape[1]:
             z += self.pair_terms @ rng.standard_normal(

@@ -87,7 +87,19 @@ def sorted_designs(
         u = rng.random((rows, n), out=out)
         u.sort(axis=1)
         return u
-    u = rng.random(n).take(order, out=out)
+    return lhs_scores(rng.random(n), order, mirrored, out)
+
+
+def lhs_scores(
+    w: np.ndarray,
+    order: np.ndarray,
+    mirrored: np.ndarray | None = None,
+    out: np.ndarray | None = None,
+) -> np.ndarray:
+    """sorted_designs' Latin hypercube for rows whose k-th smallest value goes to trial
+    order[i, k], the trials' positions inside their strata being w (n,)."""
+    n = order.shape[1]
+    u = w.take(order, out=out)
     if mirrored is not None and len(mirrored):
         u[mirrored] = 1 - u[mirrored]
     u += _strata(n)
@@ -116,69 +128,134 @@ def simulate(
 ) -> SampleTotal:
     """Simulated total of the items; `pairing` replaces independent pairing when given."""
     progress = progress or Progress()
-    # A paired replicate holds several (items, trials) arrays per thread: bound their size
-    # with more, smaller replicates for long runs (a million trials of 200 items: 100 of 10k).
-    largest = None
-    if pairing is not None:  # a round number, so round trial counts split evenly
-        rounded = PAIRED_VALUES // len(dists) // 1000 * 1000
-        largest = max(min_per_replicate, MIN_PER_REPLICATE, rounded)
-    replicates, per = replicate_layout(trials, replicates, min_per_replicate, largest)
     if pairing is None:
+        replicates, per = replicate_layout(trials, replicates, min_per_replicate)
         streams = item_streams(seed, len(dists))
         out = _independent(dists, streams, replicates, per, sampling, progress)
     else:
-        out = _paired(dists, seed, replicates, per, sampling, pairing, observe, progress)
+        replicates, per = paired_layout(len(dists), trials, replicates, min_per_replicate)
+        build_tables(dists, progress.part(0.0, TABLES_SHARE))
+        draws = PairedReplicates(dists, seed, replicates, per, sampling, pairing)
+        out = np.zeros((replicates, per))
+        lanes = [list(part) for part in halves(replicates)]
+        _in_lanes(draws, lanes, out, observe, progress.part(TABLES_SHARE, 1 - TABLES_SHARE))
     return SampleTotal(out, sample_cumulants(out.ravel()), sampling=sampling)
 
 
-def _paired(
-    dists: Sequence[Distribution],
-    seed: int,
-    replicates: int,
-    per: int,
-    sampling: str,
-    pairing: Pairing,
+def paired_layout(
+    items: int, trials: int, replicates: int = REPLICATES, min_per_replicate: int = 0
+) -> tuple[int, int]:
+    """replicate_layout for a correlated run. A paired replicate holds several (items, trials)
+    arrays per thread: their size is bounded with more, smaller replicates for long runs (a
+    million trials of 200 items: 100 of 10k), a round number so round counts split evenly."""
+    rounded = PAIRED_VALUES // items // 1000 * 1000
+    largest = max(min_per_replicate, MIN_PER_REPLICATE, rounded)
+    return replicate_layout(trials, replicates, min_per_replicate, largest)
+
+
+class PairedReplicates:
+    """The replicates of a correlated run. Replicate r draws from streams of its own (one for
+    the pairing, one for the designs), so it is the same whichever lane draws it and
+    whenever: a replicate drawn again is the analysis's own, bit for bit. Each item's design
+    is drawn sorted, the whole replicate sampled family by family, and each value goes to
+    the trial the pairing gives."""
+
+    def __init__(
+        self,
+        dists: Sequence[Distribution],
+        seed: int,
+        replicates: int,
+        per: int,
+        sampling: str,
+        pairing: Pairing,
+    ):
+        self.shape = (len(dists), per)
+        # each replicate's two streams, spawned once (spawning again would give new ones)
+        self.seeds = [s.spawn(2) for s in np.random.SeedSequence(seed).spawn(replicates)]
+        self.sampling, self.pairing = sampling, pairing
+        self.sampler = BatchSampler(dists)
+        self.mirrored = getattr(pairing, "mirrored", None)  # items ranked against the rest
+        self.row_starts = (np.arange(len(dists)) * per)[:, None]
+        # per kind of item: its rows, their sampler, which of them are mirrored, row starts
+        mirrored = np.zeros(len(dists), dtype=bool)
+        if self.mirrored is not None:
+            mirrored[self.mirrored] = True
+        self.kinds = [
+            (rows, sample, np.flatnonzero(mirrored[rows]), self.row_starts[rows])
+            for rows, sample in self.sampler.groups
+        ]
+
+    def draw(self, r: int, work: Workspace, total: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Replicate r's item values (items, trials) and their positions (see Observer), its
+        total written into `total`; the arrays are `work`'s, valid until the next draw."""
+        shape = self.shape
+        pairing_rng, design_rng = (np.random.default_rng(s) for s in self.seeds[r])
+        positions = self.pairing(pairing_rng, *shape, work)
+        values = work.get("values", shape, float)
+        if self.sampling == "lhs":  # kind by kind: no (items, trials) scores or draws kept
+            w = design_rng.random(shape[1])
+            for rows, sample, mirrored, starts in self.kinds:
+                order = positions[rows]
+                drawn = sample(lhs_scores(w, order, mirrored))
+                order += starts  # order within each row -> index into values.ravel()
+                values.reshape(-1)[order.ravel()] = drawn.ravel()
+            positions += self.row_starts
+        else:
+            design = sorted_designs(
+                design_rng, positions, self.sampling, work.get("u", shape, float)
+            )
+            positions += self.row_starts
+            drawn = self.sampler(design, out=work.get("drawn", shape, float))
+            values.reshape(-1)[positions.ravel()] = drawn.ravel()
+        np.sum(values, axis=0, out=total)
+        return values, positions
+
+
+def _in_lanes(
+    draws: PairedReplicates,
+    lanes: Sequence[Sequence[int]],
+    out: np.ndarray,
     observe: Observer | None,
     progress: Progress,
-) -> np.ndarray:
-    """Replicates split between two lanes (threads). Replicate r draws from streams of its
-    own (one for the pairing, one for the designs), so results do not depend on the lanes.
-    Each item's design is drawn sorted, the whole replicate sampled family by family, and
-    each value goes to the trial the pairing gives."""
-    count = len(dists)
-    out = np.zeros((replicates, per))
-    lanes = halves(replicates)
-    seeds = np.random.SeedSequence(seed).spawn(replicates)
-    build_tables(dists, progress.part(0.0, TABLES_SHARE))
-    progress = progress.part(TABLES_SHARE, 1 - TABLES_SHARE)
-    sampler = BatchSampler(dists)
-    mirrored = getattr(pairing, "mirrored", None)  # items ranked against the rest
-    row_starts = (np.arange(count) * per)[:, None]
+) -> None:
+    """The replicates of each lane drawn in order on a thread of its own, rows of `out`
+    filled with their totals; the observer sees each replicate with its lane's index."""
     done = [0] * len(lanes)
+    count = sum(len(lane) for lane in lanes)
 
     def run(part: range) -> None:
-        lane = lanes.index(part)
         work = Workspace()
-        shape = (count, per)
-        for r in part:
-            pairing_rng, design_rng = (np.random.default_rng(s) for s in seeds[r].spawn(2))
-            positions = pairing(pairing_rng, count, per, work)
-            design = sorted_designs(
-                design_rng, positions, sampling, work.get("u", shape, float), mirrored
-            )
-            positions += row_starts  # order within each row -> index into values.ravel()
-            drawn = sampler(design, out=work.get("drawn", shape, float))
-            values = work.get("values", shape, float)
-            values.reshape(-1)[positions.ravel()] = drawn.ravel()
-            np.sum(values, axis=0, out=out[r])
-            if observe is not None:
-                observe(lane, values, out[r], positions)
-            done[lane] += 1
-            progress.report(sum(done) / replicates)
+        for lane in part:
+            for r in lanes[lane]:
+                values, positions = draws.draw(r, work, out[r])
+                if observe is not None:
+                    observe(lane, values, out[r], positions)
+                done[lane] += 1
+                progress.report(sum(done) / count)
 
     with blas_on_one_thread():  # the lanes are the parallelism; BLAS threads would spin
-        run_split(run, replicates)
-    return out
+        run_split(run, len(lanes))
+
+
+def redraw(
+    dists: Sequence[Distribution],
+    *,
+    trials: int,
+    seed: int,
+    sampling: str,
+    pairing: Pairing,
+    lanes: Sequence[Sequence[int]],
+    observe: Observer,
+    min_per_replicate: int = 0,
+    progress: Progress | None = None,
+) -> None:
+    """Some replicates of `simulate`'s correlated run (same arguments) drawn again, each
+    lane's list in order on a thread of its own, for an observer that needs them twice."""
+    replicates, per = paired_layout(len(dists), trials, REPLICATES, min_per_replicate)
+    build_tables(dists, Progress())  # built by the run itself: nothing left to do
+    draws = PairedReplicates(dists, seed, replicates, per, sampling, pairing)
+    out = np.zeros((replicates, per))
+    _in_lanes(draws, lanes, out, observe, progress or Progress())
 
 
 TABLES_SHARE = 0.05  # of a correlated run's progress bar, for building the PERT tables
