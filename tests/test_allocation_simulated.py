@@ -173,3 +173,21 @@ def rerun_of(items, analysis):
         seed=analysis.seed,
         sampling=analysis.sampling,
     )
+
+
+def test_a_level_between_two_point_masses_interpolates_their_conditional_means() -> None:
+    # A fixed item and a discrete one (30,341 / 39,200 / 54,924 at 30 / 50 / 20 %), a small
+    # default correlation: P80 is read between the trials at 39,229 and 54,953, where no
+    # trial lies (the shares came out NaN). The window reaches the nearest trial on each
+    # side, and the fit through the two is their linear interpolation: the discrete item
+    # carries all of the contingency, the fixed item none (it is the same in every trial).
+    items = [
+        LineItem("Licence", "fixed", None, 29.0, None),
+        LineItem("Crane", "discrete", values=((39_200.0, 0.5), (30_341.0, 0.3), (54_924.0, 0.2))),
+    ]
+    estimate = Estimate(items, correlation=CorrelationSpec(default=0.01))
+    analysis = analyze(estimate, trials=5_000, seed=283, levels=(50, 80, 90))
+    p80 = allocate(estimate, analysis).at(80)
+    assert 39_229.0 < p80.total < 54_953.0  # between the two atoms
+    assert p80.shares[0] == pytest.approx(0.0, abs=1e-6)
+    assert p80.shares[1] == pytest.approx(p80.contingency, abs=1e-6)

@@ -38,6 +38,9 @@ from engine.threads import PARTS, halves
 # near the ends (common practice for kernel regression, no source; the bias is measured in
 # tests/test_allocation_simulated.py).
 WINDOW = 0.02
+# How far past the nearest trial an empty window reaches, in multiples of its distance:
+# the tent then gives that trial a third of the weight at the level.
+REACH_PAST = 1.5
 PILOT_TRIALS = 2_500  # per lane
 MARGIN = 5.0  # binomial standard errors of the pilot's percentiles, each side
 NODES = 28  # grid points per level and lane
@@ -72,10 +75,26 @@ def window_half(q: np.ndarray) -> np.ndarray:
 
 
 def window_edges(total, levels: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
-    """P_(q - w) and P_(q + w) of the total for each level q (percent), w at most WINDOW."""
+    """P_(q - w) and P_(q + w) of the total for each level q (percent), w at most WINDOW.
+    A level in a gap between point masses (read between two trials' values) has no trial in
+    that window: its window then reaches past the nearest trial on each side, and the fit
+    through the two is the linear interpolation of their conditional means, still adding
+    up to the level."""
     q = np.asarray(levels, dtype=float) / 100
     half = window_half(q)
-    return total.ppf(q - half), total.ppf(q + half)
+    low, high = total.ppf(q - half), total.ppf(q + half)
+    if isinstance(total, SampleTotal):
+        values = total.sorted_trials
+        t = total.ppf(q)
+        at = np.searchsorted(values, t)
+        # no trial strictly inside: one on an edge has no weight in the tent
+        empty = np.searchsorted(values, high) == np.searchsorted(values, low, side="right")
+        empty &= (at > 0) & (at < len(values))
+        below = values[np.clip(at - 1, 0, len(values) - 1)]
+        above = values[np.clip(at, 0, len(values) - 1)]
+        low = np.where(empty, np.minimum(low, t - REACH_PAST * (t - below)), low)
+        high = np.where(empty, np.maximum(high, t + REACH_PAST * (above - t)), high)
+    return low, high
 
 
 def tent_widths(
