@@ -30,7 +30,7 @@ from engine.dependence.correlation import (
 )
 from engine.exact.convolution import cumulants_of, exact_total
 from engine.exact.grid_plan import TooWideForOneGrid
-from engine.exact.refusals import exact_total_or_refusal, too_wide_refusal
+from engine.exact.refusals import exact_total_or_refusal
 from engine.exact.totals import Cumulants, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
@@ -280,14 +280,9 @@ def analyze(
         seed_used = new_seed() if seed is None else int(seed)
         sampling_used = sampling
         if linked:
-            try:
-                total, dependence, stats, kernel_sums = simulate_correlated(
-                    dists, aims, trials, seed_used, sampling, tracker, levels
-                )
-            except TooWideForOneGrid as both:  # the "if independent" column is exact
-                raise too_wide_refusal(
-                    items, both, "narrow one of the two ranges: the total if independent is exact."
-                ) from None
+            total, dependence, stats, kernel_sums = simulate_correlated(
+                dists, aims, trials, seed_used, sampling, tracker, levels
+            )
             drivers = item_drivers(
                 items, dists, stats.variance_contributions, stats.rank_with_total
             )
@@ -393,7 +388,10 @@ def simulate_correlated(
             lanes = windows.pilots(len(total.by_replicate))
             again = tracker.part(1 - share, share)
             redraw(**run, lanes=lanes, observe=windows.again, progress=again)
-        independent = pending.result()
+        try:
+            independent = pending.result()
+        except TooWideForOneGrid:  # two items too wide for one exact grid: simulated too
+            independent = simulate(dists, trials=trials, seed=seed, sampling=sampling)
     finally:
         pending.cancel()
     kernel_sums = None
