@@ -158,9 +158,7 @@ def test_the_shortcut_uses_exact_moments_with_simulation() -> None:
 def test_two_items_too_wide_for_one_grid_are_refused_with_the_way_out() -> None:
     # Only one item can be evaluated by its own cdf; a second as wide would need a grid of
     # billions of points. The refusal names the item and suggests simulation, which works.
-    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
-    first = LineItem("Ground risk", high=1e4, row=2, **wide)
-    second = LineItem("Market risk", high=1e3, row=3, **wide)
+    first, second = two_wide_items()
     with pytest.raises(InputError) as caught:
         analyze(_estimate(first, second), method="exact")
     (problem,) = caught.value.problems
@@ -175,16 +173,11 @@ def test_automatic_method_simulates_two_items_too_wide_for_one_grid() -> None:
     # Automatic method says why and simulates; the percentiles agree with a numpy sum of the
     # two lognormals (4M draws; P10/P90 -> mu, sigma with z_0.9 = 1.2816, the lognormal's
     # closed form, Johnson, Kotz & Balakrishnan vol. 1).
-    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
-    first = LineItem("Ground risk", high=1e4, row=2, **wide)
-    second = LineItem("Market risk", high=1e3, row=3, **wide)
+    first, second = two_wide_items()
     a = analyze(_estimate(first, second), trials=400_000, seed=4, levels=(50, 90))
     assert a.method == "simulation"
     assert "Ground risk" in a.method_reason and "simulated" in a.method_reason
-    z = stats.norm.ppf(0.9)
-    rng = np.random.default_rng(11)
-    draws = (rng.lognormal(math.log(h) / 2, math.log(h) / (2 * z), 4_000_000) for h in (1e4, 1e3))
-    reference = sum(draws)
+    reference = two_wide_items_sum(np.random.default_rng(11))
     for row in a.levels:
         # |F(x_q) - q| of the reference sample at our percentile, against its sampling noise
         q = row.level / 100
@@ -196,15 +189,10 @@ def test_two_too_wide_items_correlated_are_analysed_with_a_simulated_if_independ
     # for one exact grid make that column simulated too (it was refused, then crashed). The
     # independent sum against a numpy reference (P10/P90 -> mu, sigma, the lognormal's
     # closed form; 4M draws), read as |F(x_q) - q| in probability.
-    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
-    first = LineItem("Ground risk", high=1e4, row=2, **wide)
-    second = LineItem("Market risk", high=1e3, row=3, **wide)
+    first, second = two_wide_items()
     linked = Estimate(items=[first, second], correlation=CorrelationSpec(default=0.5))
     a = analyze(linked, trials=100_000, seed=3, levels=(50, 90))
-    z = stats.norm.ppf(0.9)
-    rng = np.random.default_rng(13)
-    draws = (rng.lognormal(math.log(h) / 2, math.log(h) / (2 * z), 4_000_000) for h in (1e4, 1e3))
-    reference = sum(draws)
+    reference = two_wide_items_sum(np.random.default_rng(13))
     for row in a.levels:
         q = row.level / 100
         off = abs(np.mean(reference <= row.independent_value) - q)
@@ -227,3 +215,19 @@ def test_a_rare_large_risk_beside_small_items_is_resolved_where_the_probability_
         error = abs(f - row.level / 100)
         assert error <= 1e-5, (row.level, row.value, error)  # was 0.12
         assert error <= a.total.error_probability  # the bound covers the error
+
+
+def two_wide_items() -> tuple[LineItem, LineItem]:
+    """Two lognormals from P10 = 1 to P90 = 10^4 and 10^3: too wide for one exact grid."""
+    wide = {"family": "lognormal", "low": 1.0, "low_pct": 10, "high_pct": 90}
+    return (
+        LineItem("Ground risk", high=1e4, row=2, **wide),
+        LineItem("Market risk", high=1e3, row=3, **wide),
+    )
+
+
+def two_wide_items_sum(rng: np.random.Generator) -> np.ndarray:
+    """4M numpy draws of their independent sum (P10/P90 -> mu, sigma with z_0.9: the
+    lognormal's closed form, Johnson, Kotz & Balakrishnan vol. 1)."""
+    z = stats.norm.ppf(0.9)
+    return sum(rng.lognormal(math.log(h) / 2, math.log(h) / (2 * z), 4_000_000) for h in (1e4, 1e3))
