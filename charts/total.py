@@ -27,6 +27,7 @@ from engine.exact.wide_item import WideItemTotal
 
 # The window's tab and the chart say the same words.
 SPREAD_TITLE = "Spread of the total"
+NORMAL_REACH = 3.0  # sds of the normal curve kept in view when they fall near the total
 MAX_POINTS = 800  # a grid this fine is indistinguishable on screen and keeps the PDF small
 
 
@@ -161,7 +162,11 @@ def draw_density(ax: Axes, analysis: Analysis, unit: str = "") -> None:
 
 def _view(ax: Axes, analysis: Analysis, unit: str) -> tuple[float, float]:
     """Fix the x range to the body of the total and its levels; a note if a tail is cut."""
-    left, right, cut = body_range(analysis.total.ppf, (r.value for r in analysis.levels))
+    mean, sd = shortcut_moments(analysis)
+    normal = (mean - NORMAL_REACH * sd, mean + NORMAL_REACH * sd)  # the normal curve's body
+    left, right, cut = body_range(
+        analysis.total.ppf, (r.value for r in analysis.levels), normal if sd > 0 else ()
+    )
     if right > left:
         pad = 0.02 * (right - left)
         ax.set_xlim(left - pad, right + pad)

@@ -19,12 +19,17 @@ REACH = 6.0
 
 
 def body_range(
-    ppf: Callable[[np.ndarray], np.ndarray], marks: Iterable[float] = ()
+    ppf: Callable[[np.ndarray], np.ndarray],
+    marks: Iterable[float] = (),
+    beside: Iterable[float] = (),
 ) -> tuple[float, float, float | None]:
-    """(left, right, where the cut right tail ends, or None when nothing is cut)."""
+    """(left, right, where the cut right tail ends, or None when nothing is cut). `marks`
+    are always in view; `beside` (a curve drawn with it) only within the reach."""
     lo, p10, p50, p90, hi = (float(v) for v in ppf(np.array([SHOWN[0], 0.1, 0.5, 0.9, SHOWN[1]])))
     reach = REACH * (p90 - p10)
-    left, right = max(lo, p50 - reach), min(hi, p50 + reach)
+    near = [float(b) for b in beside if abs(float(b) - p50) <= reach]
+    left = max(min([lo, *near]), p50 - reach)
+    right = min(max([hi, *near]), p50 + reach)
     marked = [float(m) for m in marks]
     if marked:
         left, right = min(left, *marked), max(right, *marked)
