@@ -36,6 +36,10 @@ UNGROUPED = "(no group)"
 # that no exact grid resolves): the standard error column says what they cost in precision.
 OWN_TRIALS = 400_000
 OWN_SEED = 1
+# ...at most this many item values in all (10,000 items: 40,000 trials), so the fall-back
+# never costs minutes; never fewer trials than MIN_OWN_TRIALS.
+OWN_VALUES = 400_000_000
+MIN_OWN_TRIALS = 20_000
 # A difference this large, in points of the contingency, changes where money is held
 # (common practice, no source).
 MATTERS = 0.10
@@ -162,6 +166,9 @@ def allocate(
     totals = [row.value for row in analysis.levels] if shared else []
     levels = [row.level for row in analysis.levels] if shared else []
     errors = group_jack = None
+    own_trials = analysis.trials or max(
+        MIN_OWN_TRIALS, min(OWN_TRIALS, OWN_VALUES // len(items) // 1000 * 1000)
+    )
     if not shared:
         method, how = "none", ""
     elif analysis.dependence is None:
@@ -173,7 +180,7 @@ def allocate(
             method, how = (
                 "simulation",
                 (
-                    f"Estimated from {analysis.trials or OWN_TRIALS:,} simulated trials near each"
+                    f"Estimated from {own_trials:,} simulated trials near each"
                     " level: a heavy tail leaves no exact grid fine enough for the body of the"
                     " total; standard errors by deleting one replicate at a time."
                 ),
@@ -188,7 +195,7 @@ def allocate(
             analysis.dependence,
             totals,
             window_edges(analysis.total, levels),
-            trials=analysis.trials or OWN_TRIALS,
+            trials=own_trials,
             seed=OWN_SEED if analysis.seed is None else analysis.seed,
             sampling=analysis.sampling or "lhs",
             progress=tracker,
