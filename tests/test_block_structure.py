@@ -230,3 +230,31 @@ def test_correlated_counts_from_blocks_equal_the_dense_matrix(seed):
         upper = np.triu(matrix != 0, k=1)
         dense = int(upper.sum()), int((upper | upper.T).any(axis=0).sum())
         assert correlated_counts(BlockStructure.from_estimate(estimate)) == dense
+
+
+def test_tabulated_own_scores_give_the_normal_copula_rank_correlation():
+    # The own terms come from 65,536 equally likely normal quantiles (FactorPairing);
+    # the rank correlation of a normal pair with score correlation r is (6/pi) asin(r/2)
+    # (Pearson 1907), and Spearman's coefficient from n pairs has sd below 1/sqrt(n - 1).
+    from engine.dependence.block_structure import FactorModel
+    from engine.simulation.factor_pairing import OWN_LEVELS, FactorPairing, _own_levels
+    from engine.simulation.workspace import Workspace
+
+    levels = _own_levels().astype(float)  # against scipy's normal cdf: each level in its cell
+    below = (np.arange(OWN_LEVELS) + np.array([[0.0], [1.0]])) / OWN_LEVELS
+    assert np.all((special.ndtr(levels) > below[0] - 1e-6) & (special.ndtr(levels) < below[1]))
+    assert levels.mean() == pytest.approx(0, abs=1e-6) and levels.var() == pytest.approx(1)
+    r, n = 0.5, 1_000_000
+    model = FactorModel(
+        block=np.zeros(2, dtype=np.intp),
+        loading=np.full(2, np.sqrt(r)),
+        own=np.full(2, np.sqrt(1 - r)),
+        factor_root=np.ones((1, 1)),
+        pair_items=np.zeros((0, 2), dtype=np.intp),
+        pair_weights=np.zeros((0, 2)),
+    )
+    orders = FactorPairing(model)(np.random.default_rng(3), 2, n, Workspace())
+    ranks = np.empty((2, n))
+    ranks[0, orders[0]] = ranks[1, orders[1]] = np.arange(n)
+    spearman = np.corrcoef(ranks)[0, 1]
+    assert abs(spearman - 6 / np.pi * np.arcsin(r / 2)) < 4 / np.sqrt(n - 1)

@@ -22,7 +22,7 @@ import numpy as np
 
 from engine.exact.totals import Cumulants, SampleTotal
 from engine.families.batch_sampling import BatchSampler
-from engine.families.distributions import Beta, Distribution, Occurrence
+from engine.families.distributions import Beta, Distribution, Occurrence, beta_tables
 from engine.progress import Progress
 from engine.simulation.ranking import random_permutations
 from engine.simulation.workspace import Workspace
@@ -262,22 +262,18 @@ TABLES_SHARE = 0.05  # of a correlated run's progress bar, for building the PERT
 
 
 def build_tables(dists: Sequence[Distribution], progress: Progress) -> None:
-    """Each PERT item's sampling tables, built on both threads before the replicates:
-    about 5 ms an item, so 3,000 PERT items take seconds, which the window should see move
-    and be able to cancel (the batch sampler would otherwise build them all in one call)."""
+    """Each PERT item's sampling tables, built before the replicates: about a second for
+    2,500 PERT items, which the window should see move and be able to cancel (the batch
+    sampler would otherwise build them all in one call)."""
     tabled = [d.impact if isinstance(d, Occurrence) else d for d in dists]
     tabled = [d for d in tabled if isinstance(d, Beta)]
-    done = [0] * 2
+    done = [0]
 
-    def build(part: range) -> None:
-        half = 0 if part.start == 0 else 1
-        for i, k in enumerate(part):
-            _ = tabled[k].inverse_table
-            if i % 16 == 15:
-                done[half] = i + 1
-                progress.report(sum(done) / len(tabled))
+    def built(count: int) -> None:
+        done[0] += count
+        progress.report(done[0] / len(tabled))
 
-    run_split(build, len(tabled))
+    beta_tables(tabled, built)
 
 
 def _independent(
