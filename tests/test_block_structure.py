@@ -232,18 +232,21 @@ def test_correlated_counts_from_blocks_equal_the_dense_matrix(seed):
         assert correlated_counts(BlockStructure.from_estimate(estimate)) == dense
 
 
-def test_tabulated_own_scores_give_the_normal_copula_rank_correlation():
-    # The own terms come from 65,536 equally likely normal quantiles (FactorPairing);
-    # the rank correlation of a normal pair with score correlation r is (6/pi) asin(r/2)
-    # (Pearson 1907), and Spearman's coefficient from n pairs has sd below 1/sqrt(n - 1).
+def test_box_muller_own_scores_give_the_normal_copula_rank_correlation():
+    # The own terms come from the Box-Muller transform (engine.simulation.normal_scores):
+    # against scipy's normal cdf, and the rank correlation of a normal pair with score
+    # correlation r, (6/pi) asin(r/2) (Pearson 1907); Spearman's coefficient from n pairs
+    # has sd below 1/sqrt(n - 1).
+    from scipy import stats
+
     from engine.dependence.block_structure import FactorModel
-    from engine.simulation.factor_pairing import OWN_LEVELS, FactorPairing, _own_levels
+    from engine.simulation.factor_pairing import FactorPairing
+    from engine.simulation.normal_scores import standard_normals
     from engine.simulation.workspace import Workspace
 
-    levels = _own_levels().astype(float)  # against scipy's normal cdf: each level in its cell
-    below = (np.arange(OWN_LEVELS) + np.array([[0.0], [1.0]])) / OWN_LEVELS
-    assert np.all((special.ndtr(levels) > below[0] - 1e-6) & (special.ndtr(levels) < below[1]))
-    assert levels.mean() == pytest.approx(0, abs=1e-6) and levels.var() == pytest.approx(1)
+    scores = standard_normals(np.random.default_rng(4), (3, 333_333), Workspace())
+    assert scores.shape == (3, 333_333) and np.isfinite(scores).all()
+    assert stats.kstest(scores.ravel(), "norm").pvalue > 1e-3
     r, n = 0.5, 1_000_000
     model = FactorModel(
         block=np.zeros(2, dtype=np.intp),

@@ -95,12 +95,18 @@ def _occurrence(dists: Sequence[Occurrence]) -> RowSampler:
     below = _column(dists, lambda d: d.below_zero())
 
     def sample(u: np.ndarray) -> np.ndarray:
-        low_part = u < below
-        at_zero = ~low_part & (u <= below + 1 - p)
-        mapped = np.where(low_part, u / p, np.clip((u - (1 - p)) / p, 0.0, 1.0))
-        mapped[at_zero] = 0.5  # any score inside the table; these values are replaced by 0
+        if not below.any():  # no impact below zero (the usual case): the same, fewer passes
+            at_zero = u <= 1 - p
+            mapped = u - (1 - p)
+            mapped /= p
+            np.minimum(mapped, 1.0, out=mapped)
+        else:
+            low_part = u < below
+            at_zero = ~low_part & (u <= below + 1 - p)
+            mapped = np.where(low_part, u / p, np.clip((u - (1 - p)) / p, 0.0, 1.0))
+        np.copyto(mapped, 0.5, where=at_zero)  # inside any table; these values become 0
         out = impact(mapped)
-        out[at_zero] = 0.0
+        np.copyto(out, 0.0, where=at_zero)
         return out
 
     return sample

@@ -8,34 +8,21 @@ factor and the items x items products: the cost is a few passes over the (items,
 scores and one sort per item. The rank correlation achieved is that of a normal copula,
 (6 / pi) asin(r / 2) for score correlation r (Pearson 1907), up to the sampling error of
 each replicate's scores, which the replicates' spread includes in the standard errors.
-
-The items' own terms e (items x trials values a replicate, half its pairing time when drawn
-by numpy's normal sampler) are read from a table of OWN_LEVELS equally likely normal
-quantiles by 16 random bits each: the sort keys keep only about 2^23 levels of a score
-anyway, and the achieved rank correlations are those of exact normal scores to within
-their sampling error (tests/test_block_structure.py).
+The items' own terms (items x trials of them a replicate) are drawn by the Box-Muller
+transform (engine.simulation.normal_scores), at half the cost of numpy's normal sampler.
 """
 
 from __future__ import annotations
 
 import numpy as np
-from scipy import sparse, special
+from scipy import sparse
 
 from engine.dependence.block_structure import FactorModel
 from engine.dependence.correlation import Targets
 from engine.simulation.iman_conover import ImanConoverPairing
+from engine.simulation.normal_scores import standard_normals
 from engine.simulation.ranking import unit_score_orders
 from engine.simulation.workspace import Workspace
-
-OWN_LEVELS = 1 << 16
-
-
-def _own_levels() -> np.ndarray:
-    """The normal quantiles at the middles of OWN_LEVELS equal cells, scaled to variance 1
-    (the cells' middles lose 4e-4 of it in the tails beyond 4.3), float32."""
-    q = special.ndtri((np.arange(OWN_LEVELS) + 0.5) / OWN_LEVELS)
-    q /= np.sqrt(np.mean(q * q))
-    return q.astype(np.float32)
 
 
 class FactorPairing:
@@ -50,7 +37,6 @@ class FactorPairing:
         self.loading = model.loading.astype(np.float32)[:, None]
         self.own = model.own.astype(np.float32)[:, None]
         self.root = model.factor_root.astype(np.float32)
-        self.levels = _own_levels()
         count, pairs = len(model.block), len(model.pair_items)
         columns = np.repeat(np.arange(pairs), 2)
         self.pair_terms = sparse.csr_matrix(
@@ -59,8 +45,7 @@ class FactorPairing:
         )
 
     def __call__(self, rng: np.random.Generator, items: int, n: int, work: Workspace) -> np.ndarray:
-        z = work.get("z", (items, n), np.float32)
-        self.levels.take(rng.integers(0, OWN_LEVELS, (items, n), dtype=np.uint16), out=z)
+        z = standard_normals(rng, (items, n), work)
         z *= self.own
         factors = self.root @ rng.standard_normal((len(self.root), n), dtype=np.float32)
         shared = work.get("shared", (items, n), np.float32)

@@ -20,17 +20,21 @@ from engine.threads import PARTS
 
 def tie_averaged_ranks(ascending: np.ndarray) -> np.ndarray:
     """Ranks 0..n-1 along the last axis of values in ascending order, ties sharing their
-    average rank (as Spearman's coefficient with ties is usually computed)."""
+    average rank (as Spearman's coefficient with ties is usually computed). Each run of
+    equal values is found once over the whole array, and its middle read back by run."""
     rows = np.atleast_2d(ascending)
     n = rows.shape[-1]
-    index = np.broadcast_to(np.arange(n), rows.shape)
-    starts = np.ones(rows.shape, dtype=bool)  # where a run of equal values begins
-    np.not_equal(rows[:, 1:], rows[:, :-1], out=starts[:, 1:])
-    ends = np.ones(rows.shape, dtype=bool)  # and where one ends
-    ends[:, :-1] = starts[:, 1:]
-    first = np.maximum.accumulate(np.where(starts, index, 0), axis=1)
-    last = np.minimum.accumulate(np.where(ends, index, n - 1)[:, ::-1], axis=1)[:, ::-1]
-    return ((first + last) / 2).reshape(np.shape(ascending))
+    fresh = np.empty(rows.shape, dtype=bool)  # where a run of equal values begins
+    fresh[:, 0] = True
+    np.not_equal(rows[:, 1:], rows[:, :-1], out=fresh[:, 1:])
+    starts = np.flatnonzero(fresh)
+    ends = np.empty_like(starts)
+    ends[:-1] = starts[1:]
+    ends[-1] = fresh.size
+    middle = (starts + ends - 1) / 2 - (starts // n) * n  # each run's average rank in its row
+    run = np.cumsum(fresh.ravel(), dtype=np.intp)
+    run -= 1
+    return middle.take(run).reshape(np.shape(ascending))
 
 
 @lru_cache(maxsize=2)
