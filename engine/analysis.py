@@ -34,6 +34,7 @@ from engine.exact.refusals import exact_total_or_refusal
 from engine.exact.totals import Cumulants, SampleTotal, Total
 from engine.families.distributions import Distribution
 from engine.items import Estimate, InputError, LineItem, Problem
+from engine.memory_reuse import keep_freed_memory
 from engine.progress import Progress
 from engine.schedule.merge_bias import PathsSection, shortcut_distance
 from engine.schedule.paths import SchedulePath, schedule_paths
@@ -222,6 +223,7 @@ def analyze(
     cancel: Callable[[], bool] | None = None,
 ) -> Analysis:
     """Analyse an estimate; raises InputError listing every problem if it has any."""
+    keep_freed_memory()
     problems = estimate.problems
     if problems:
         raise InputError(problems)
