@@ -14,7 +14,7 @@ the exact ppf; deeper tables would cost memory in large estimates (78 kB a table
 
 Given the cdf as well (`below`, `above`), only every STRIDE-th node calls the ppf: a beta's
 betaincinv costs 1.3-1.6 us a value and its betainc a quarter of that, and 2,500 PERT items'
-tables took 5 s of a 10,000-item correlated run. The nodes between are read from the cubic
+tables took 5 s of a 10,000-item correlated run on two threads (1.9 s now). The nodes between are read from the cubic
 through the exact ones (error ~2e-8 of the range) and corrected by one Newton step on the
 cdf, which squares that error (tests/test_distributions.py: within 1e-10 of betaincinv into
 the far tails).
