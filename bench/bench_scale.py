@@ -120,9 +120,22 @@ def correlated_cases(n: int) -> None:
                 got = command([verb, path, *extra])
                 print(
                     f"{'':50}{label:28} {got['seconds']:7.1f} {got['cpu']:6.1f} "
-                    f"{got['peak_mb']:8.0f}",
+                    f"{got['peak_mb']:8.0f}  {verdict(verb, n, got['seconds'], got['peak_mb'])}",
                     flush=True,
                 )
+
+
+TARGETS = {"check": (5.0, None), "report": (30.0, 1536.0)}  # at 10,000 items (issue 13)
+
+
+def verdict(verb: str, n: int, seconds: float, peak_mb: float) -> str:
+    """The issue's target for a 10,000-item run, met or not (other sizes have none)."""
+    if n != 10_000:
+        return ""
+    most_s, most_mb = TARGETS[verb]
+    met = seconds < most_s and (most_mb is None or peak_mb < most_mb)
+    limit = f"< {most_s:.0f} s" + (f", < {most_mb / 1024:.1f} GB" if most_mb else "")
+    return f"target {limit}: {'met' if met else 'NOT met'}"
 
 
 INDEPENDENT = r"""
@@ -169,7 +182,8 @@ def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
                 print(
                     f"{n:,} items, {kind:18} {a['wall']:>15} {b['wall']:>15} "
                     f"{a['median'] / b['median']:6.2f} {a['cpu']:9.1f} {b['cpu']:9.1f} "
-                    f"{a['peak']:6.0f} {b['peak']:6.0f} {free['seconds']:6.1f} {free['cpu']:7.1f}",
+                    f"{a['peak']:6.0f} {b['peak']:6.0f} {free['seconds']:6.1f} {free['cpu']:7.1f}"
+                    f"  A: {verdict('report', n, a['median'], a['peak'])}",
                     flush=True,
                 )
 
