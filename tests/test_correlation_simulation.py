@@ -234,3 +234,28 @@ def test_long_correlated_runs_use_more_smaller_replicates():
     # a replicate's work arrays stay near 2^21 values: 200 items x 1M trials -> 100 x 10,000
     assert replicate_layout(1_000_000, 20, 400, 10_000) == (100, 10_000)
     assert replicate_layout(100_000, 20, 400, 10_000) == (20, 5_000)
+
+
+def test_rank_with_total_is_spearmans_with_ties_averaged():
+    # Each item's rank correlation with the total, risk events (a point mass at 0) and
+    # discrete items included: scipy.stats.spearmanr (average ranks for ties) on the same
+    # replicate.
+    from engine.families.distributions import Discrete, Occurrence, Triangular
+    from engine.simulation.sample_statistics import CorrelatedSampleStatistics
+
+    dists = [
+        Triangular(1.0, 2.0, 4.0),
+        Occurrence(Triangular(5.0, 6.0, 9.0), 0.3),
+        Discrete((1.0, 2.0, 3.0), (0.2, 0.5, 0.3)),
+        Occurrence(Triangular(1.0, 1.5, 2.0), 0.6),
+    ]
+    rng = np.random.default_rng(8)
+    n = 2_000
+    shared = rng.random(n)
+    values = np.array([d.ppf(np.clip(0.6 * shared + 0.4 * rng.random(n), 0, 1)) for d in dists])
+    total = values.sum(axis=0)
+    positions = np.argsort(values, axis=1, kind="stable") + (np.arange(len(dists)) * n)[:, None]
+    statistics = CorrelatedSampleStatistics(dists)
+    statistics(0, values, total, positions)
+    expected = [stats.spearmanr(row, total).statistic for row in values]
+    np.testing.assert_allclose(statistics.rank_with_total, expected, rtol=1e-6)

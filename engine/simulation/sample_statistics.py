@@ -103,22 +103,21 @@ class CorrelatedSampleStatistics:
         t_norm = np.sqrt(t @ t)
         if t_norm == 0:
             self.with_total_sum[lane] += np.nan
-        else:
-            norms = np.full(len(values), np.sqrt(spread))
+            return
+        with np.errstate(invalid="ignore", divide="ignore"):
+            with_total = (centred @ t.astype(np.float32)) / (np.sqrt(spread) * t_norm)
             if len(self.can_tie):
-                # the items with point masses, re-ranked together: ranks in sorted order,
-                # then put back in trial order (row r of `tied` is item can_tie[r])
+                # the items with point masses, ranked again with ties averaged, in their
+                # sorted order: each rank meets the total's rank at its own trial
                 where = positions[self.can_tie]
                 ranks = tie_averaged_ranks(values.reshape(-1)[where])
-                where -= (self.can_tie * n - np.arange(len(self.can_tie)) * n)[:, None]
-                tied = np.empty(where.shape)
-                tied.reshape(-1)[where.ravel()] = ranks.ravel()
-                tied -= tied.mean(axis=1, keepdims=True)
-                centred[self.can_tie] = tied
-                wide = centred[self.can_tie].astype(float)
-                norms[self.can_tie] = np.sqrt(np.sum(wide * wide, axis=1))
-            with np.errstate(invalid="ignore", divide="ignore"):
-                self.with_total_sum[lane] += (centred @ t.astype(np.float32)) / (norms * t_norm)
+                ranks -= (n - 1) / 2  # averaging ties keeps the ranks' sum
+                where -= (self.can_tie * n)[:, None]  # -> the trial of each sorted value
+                products = np.einsum("ij,ij->i", ranks, t[where])
+                with_total[self.can_tie] = products / (
+                    np.sqrt(np.einsum("ij,ij->i", ranks, ranks)) * t_norm
+                )
+        self.with_total_sum[lane] += with_total
 
     @staticmethod
     def _mean(sums: np.ndarray, count: np.ndarray) -> np.ndarray:
