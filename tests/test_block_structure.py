@@ -118,9 +118,10 @@ def test_factor_model_refuses_what_it_cannot_carry():
     ],
 )
 def test_many_correlated_normals_by_block_factors_match_the_closed_form(spec):
-    # 400 items take the block-factor route (no n x n matrix); the total of jointly normal
+    # 1,100 items take the block-factor route (no n x n matrix), in three blocks of rows
+    # (BLOCK_ROWS 512, the last one short); the total of jointly normal
     # items is normal with variance s' R s, R = 2 sin(pi r_s / 6) (Pearson 1907).
-    n = 400
+    n = 1_100
     sds = 2.0 + np.arange(n) % 5
     items = [normal_item(f"task {k}", 50.0, sds[k], f"crew {k % 3}") for k in range(n)]
     estimate = Estimate(items, correlation=spec)
@@ -244,8 +245,9 @@ def test_box_muller_own_scores_give_the_normal_copula_rank_correlation():
     from engine.simulation.normal_scores import standard_normals
     from engine.simulation.workspace import Workspace
 
-    scores = standard_normals(np.random.default_rng(4), (3, 333_333), Workspace())
-    assert scores.shape == (3, 333_333) and np.isfinite(scores).all()
+    scores = np.full((3, 333_333), np.nan, dtype=np.float32)  # an odd count of values
+    standard_normals(np.random.default_rng(4), scores, np.empty(scores.size + 1, np.float32))
+    assert np.isfinite(scores).all()
     assert stats.kstest(scores.ravel(), "norm").pvalue > 1e-3
     r, n = 0.5, 1_000_000
     model = FactorModel(

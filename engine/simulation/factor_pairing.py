@@ -14,6 +14,8 @@ transform (engine.simulation.normal_scores), at half the cost of numpy's normal 
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 import numpy as np
 from scipy import sparse
 
@@ -23,6 +25,8 @@ from engine.simulation.iman_conover import ImanConoverPairing
 from engine.simulation.normal_scores import standard_normals
 from engine.simulation.ranking import unit_score_orders
 from engine.simulation.workspace import Workspace
+
+BLOCK_ROWS = 512  # items a block: a block's arrays (a few MB) stay in the shared cache
 
 
 class FactorPairing:
@@ -44,24 +48,43 @@ class FactorPairing:
             shape=(count, pairs),
         )
 
+    block_rows = BLOCK_ROWS
+
     def __call__(self, rng: np.random.Generator, items: int, n: int, work: Workspace) -> np.ndarray:
-        z = standard_normals(rng, (items, n), work)
-        z *= self.own
+        positions = work.get("positions", (items, n), np.intp)
+        for _ in self.blocks(rng, positions, work):
+            pass
+        return positions
+
+    def blocks(
+        self, rng: np.random.Generator, positions: np.ndarray, work: Workspace
+    ) -> Iterator[tuple[int, np.ndarray]]:
+        """Fills `positions` (items, n) block_rows items at a time, yielding each block as
+        it is made (its first row, its rows of `positions`), so that the caller samples it
+        while its arrays are still in cache: a 10,000-item replicate ran ~25 % slower whole."""
+        items, n = positions.shape
         factors = self.root @ rng.standard_normal((len(self.root), n), dtype=np.float32)
-        shared = work.get("shared", (items, n), np.float32)
-        if self.one_block is not None:  # a default alone: one factor, in one pass
-            np.multiply(self.loading, factors[self.one_block], out=shared)
-        else:
-            np.take(factors, self.block, axis=0, out=shared)
-            shared *= self.loading
-        z += shared
-        if self.pair_terms.shape[1]:
-            z += self.pair_terms @ rng.standard_normal(
-                (self.pair_terms.shape[1], n), dtype=np.float32
-            )
-        return unit_score_orders(
-            z, out=work.get("positions", (items, n), np.intp), work=shared.view(np.uint32)
-        )
+        pairs = self.pair_terms.shape[1]
+        pair_scores = rng.standard_normal((pairs, n), dtype=np.float32) if pairs else None
+        z_work = work.get("z", (BLOCK_ROWS, n), np.float32)
+        shared_work = work.get("shared", (BLOCK_ROWS, n), np.float32)
+        scratch = work.get("normal scratch", (BLOCK_ROWS * n + 1,), np.float32)
+        for start in range(0, items, BLOCK_ROWS):
+            rows = slice(start, min(items, start + BLOCK_ROWS))
+            count = rows.stop - start
+            z, shared = z_work[:count], shared_work[:count]
+            standard_normals(rng, z, scratch)
+            z *= self.own[rows]
+            if self.one_block is not None:  # a default alone: one factor, in one pass
+                np.multiply(self.loading[rows], factors[self.one_block], out=shared)
+            else:
+                np.take(factors, self.block[rows], axis=0, out=shared)
+                shared *= self.loading[rows]
+            z += shared
+            if pairs:
+                z += self.pair_terms[rows] @ pair_scores
+            unit_score_orders(z, out=positions[rows], work=shared.view(np.uint32))
+            yield start, positions[rows]
 
 
 def pairing_for(aims: Targets) -> FactorPairing | ImanConoverPairing:

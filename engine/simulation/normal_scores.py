@@ -12,17 +12,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from engine.simulation.workspace import Workspace
 
-
-def standard_normals(
-    rng: np.random.Generator, shape: tuple[int, int], work: Workspace
-) -> np.ndarray:
-    """A (rows, n) float32 array of independent standard normal scores, `work`'s."""
-    size = shape[0] * shape[1]
+def standard_normals(rng: np.random.Generator, out: np.ndarray, scratch: np.ndarray) -> None:
+    """Fills `out` (float32, contiguous) with independent standard normal scores;
+    `scratch` is a float32 work array of at least out.size + 1 values."""
+    flat = out.reshape(-1)
+    size = flat.size
     half = (size + 1) // 2
-    uniform = work.get("normal uniforms", (2 * half,), np.float32)
-    out = work.get("normal scores", (2 * half,), np.float32)
+    uniform = scratch[: 2 * half]
     rng.random(out=uniform, dtype=np.float32)
     radius, angle = uniform[:half], uniform[half:]
     np.subtract(np.float32(1), radius, out=radius)  # (0, 1]: the log is finite
@@ -30,8 +27,8 @@ def standard_normals(
     radius *= np.float32(-2)
     np.sqrt(radius, out=radius)
     angle *= np.float32(2 * np.pi)
-    np.cos(angle, out=out[:half])
-    np.sin(angle, out=out[half:])
-    out[:half] *= radius
-    out[half:] *= radius
-    return out[:size].reshape(shape)
+    np.cos(angle, out=flat[:half])
+    flat[:half] *= radius
+    rest = size - half  # half, or one fewer for an odd size
+    np.sin(angle[:rest], out=flat[half:])
+    flat[half:] *= radius[:rest]

@@ -15,13 +15,13 @@ summed (engine.simulation.sample_statistics gathers the drivers from them).
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from functools import lru_cache
 
 import numpy as np
 
 from engine.exact.totals import Cumulants, SampleTotal
-from engine.families.batch_sampling import BatchSampler
+from engine.families.batch_sampling import BatchSampler, RowSampler
 from engine.families.distributions import Beta, Distribution, Occurrence, beta_tables
 from engine.progress import Progress
 from engine.simulation.ranking import random_permutations
@@ -34,6 +34,8 @@ PAIRED_VALUES = 1 << 21  # item values in one correlated replicate, at most (but
 
 # (rng, items, trials in this replicate, the thread's work arrays) -> per item, the trials in
 # increasing order of its value (items, trials): its k-th smallest goes to trial order[i, k]
+# A pairing may also fill the orders block by block: `blocks(rng, positions, work)` yielding
+# (first row, rows) of every `block_rows` items, the same orders as a whole call.
 Pairing = Callable[[np.random.Generator, int, int, Workspace], np.ndarray]
 # (lane, item values (items, trials), total (trials,), positions) of each replicate, before
 # the lane draws its next; lanes run at the same time, on their own replicates. positions
@@ -157,8 +159,8 @@ class PairedReplicates:
     """The replicates of a correlated run. Replicate r draws from streams of its own (one for
     the pairing, one for the designs), so it is the same whichever lane draws it and
     whenever: a replicate drawn again is the analysis's own, bit for bit. Each item's design
-    is drawn sorted, the whole replicate sampled family by family, and each value goes to
-    the trial the pairing gives."""
+    is drawn sorted, the replicate sampled family by family in the pairing's blocks of items
+    (or whole), and each value goes to the trial the pairing gives."""
 
     def __init__(
         self,
@@ -173,40 +175,48 @@ class PairedReplicates:
         # each replicate's two streams, spawned once (spawning again would give new ones)
         self.seeds = [s.spawn(2) for s in np.random.SeedSequence(seed).spawn(replicates)]
         self.sampling, self.pairing = sampling, pairing
-        self.sampler = BatchSampler(dists)
         self.mirrored = getattr(pairing, "mirrored", None)  # items ranked against the rest
         self.row_starts = (np.arange(len(dists)) * per)[:, None]
-        # per kind of item: its rows, their sampler, which of them are mirrored, row starts
         mirrored = np.zeros(len(dists), dtype=bool)
         if self.mirrored is not None:
             mirrored[self.mirrored] = True
-        self.kinds = [
-            (rows, sample, np.flatnonzero(mirrored[rows]), self.row_starts[rows])
-            for rows, sample in self.sampler.groups
-        ]
+        # per block of rows the pairing gives at once (engine.simulation.factor_pairing), per
+        # kind of item in it: its rows in the block, their sampler, which of them are
+        # mirrored, and where their rows start in values.ravel()
+        block = getattr(pairing, "block_rows", None)
+        self.kinds: dict[int, list[tuple[np.ndarray, RowSampler, np.ndarray, np.ndarray]]] = {}
+        for start in range(0, len(dists), block or len(dists)):
+            part = slice(start, start + (block or len(dists)))
+            self.kinds[start] = [
+                (rows, sample, np.flatnonzero(mirrored[part][rows]), self.row_starts[part][rows])
+                for rows, sample in BatchSampler(dists[part]).groups
+            ]
 
     def draw(self, r: int, work: Workspace, total: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Replicate r's item values (items, trials) and their positions (see Observer), its
         total written into `total`; the arrays are `work`'s, valid until the next draw."""
         shape = self.shape
         pairing_rng, design_rng = (np.random.default_rng(s) for s in self.seeds[r])
-        positions = self.pairing(pairing_rng, *shape, work)
         values = work.get("values", shape, float)
-        if self.sampling == "lhs":  # kind by kind: no (items, trials) scores or draws kept
-            w = design_rng.random(shape[1])
-            for rows, sample, mirrored, starts in self.kinds:
-                order = positions[rows]
-                drawn = sample(lhs_scores(w, order, mirrored))
+        w = design_rng.random(shape[1]) if self.sampling == "lhs" else None
+        if hasattr(self.pairing, "blocks"):
+            positions = work.get("positions", shape, np.intp)
+            parts: Iterable[tuple[int, np.ndarray]] = self.pairing.blocks(
+                pairing_rng, positions, work
+            )
+        else:
+            positions = self.pairing(pairing_rng, *shape, work)
+            parts = [(0, positions)]
+        for start, block in parts:  # kind by kind: no (items, trials) scores or draws kept
+            for rows, sample, mirrored, starts in self.kinds[start]:
+                order = block[rows]
+                if w is not None:
+                    drawn = sample(lhs_scores(w, order, mirrored))
+                else:
+                    drawn = sample(sorted_designs(design_rng, order, self.sampling))
                 order += starts  # order within each row -> index into values.ravel()
                 values.reshape(-1)[order.ravel()] = drawn.ravel()
-            positions += self.row_starts
-        else:
-            design = sorted_designs(
-                design_rng, positions, self.sampling, work.get("u", shape, float)
-            )
-            positions += self.row_starts
-            drawn = self.sampler(design, out=work.get("drawn", shape, float))
-            values.reshape(-1)[positions.ravel()] = drawn.ravel()
+        positions += self.row_starts
         np.sum(values, axis=0, out=total)
         return values, positions
 
