@@ -183,7 +183,7 @@ def taking_turns(other: Path, sizes: list[int], rounds: int) -> None:
                     f"{n:,} items, {kind:18} {a['wall']:>15} {b['wall']:>15} "
                     f"{a['median'] / b['median']:6.2f} {a['cpu']:9.1f} {b['cpu']:9.1f} "
                     f"{a['peak']:6.0f} {b['peak']:6.0f} {free['seconds']:6.1f} {free['cpu']:7.1f}"
-                    f"  A: {verdict('report', n, a['median'], a['peak'])}",
+                    f"  {'A: ' + met if (met := verdict('report', n, a['median'], a['peak'])) else ''}",
                     flush=True,
                 )
 
