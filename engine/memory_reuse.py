@@ -5,7 +5,7 @@ freed, but never past 32 MB) and returns a thread's freed heap top to the system
 passes twice that. A correlated replicate's temporaries are (items x trials) arrays of tens
 of MB, so each replicate took its memory from the system again, page by page: 1.7 million
 page faults and 10 s of system time in a 10,000-item, 100k-trial report (28 s; 23 s with
-the thresholds below, peak memory 1.26 -> 1.32 GB). A block is still mapped on its own
+the thresholds below, peak memory 1.26 -> 1.32 GB when measured; 0.25 million faults). A block is still mapped on its own
 above MAPPED (the largest arrays, given back as soon as they are freed), and at most
 KEPT of freed memory stays with each heap.
 """
